@@ -1,0 +1,36 @@
+# Every target creates/uses the project's own virtual environment in .venv.
+PY ?= python3
+VENV := .venv
+BIN := $(VENV)/bin
+STAMP := $(VENV)/.installed
+
+.PHONY: demo test bench lint docs clean
+
+$(STAMP): pyproject.toml
+	$(PY) -m venv $(VENV)
+	$(BIN)/python -m pip install --quiet --upgrade pip
+	$(BIN)/python -m pip install --quiet -e ".[dev]"
+	touch $(STAMP)
+
+demo: $(STAMP)
+	$(BIN)/xlfuncs solve examples/demo_parts.csv examples/demo_sources.csv \
+		--options examples/demo_options.csv --target C_bank --quantity I
+	$(BIN)/xlfuncs report examples/demo_parts.csv examples/demo_sources.csv \
+		--options examples/demo_options.csv
+
+test: $(STAMP)
+	$(BIN)/python -m pytest -q
+
+bench: $(STAMP)
+	$(BIN)/python benchmarks/bench_solver.py
+
+lint: $(STAMP)
+	$(BIN)/ruff check xlfuncs tests benchmarks examples
+	$(BIN)/ruff format --check xlfuncs tests benchmarks examples
+	$(BIN)/mypy
+
+docs: $(STAMP)
+	$(BIN)/python -m xlfuncs.docgen docs/FUNCTIONS.md
+
+clean:
+	rm -rf $(VENV) .pytest_cache .mypy_cache .ruff_cache build *.egg-info

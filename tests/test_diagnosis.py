@@ -1,0 +1,125 @@
+"""Ill-posed networks get a diagnosis naming nodes/parts and the frequency, never a
+LinAlgError. Which networks are singular is a fact of circuit theory (common practice):
+a node set joined to the rest only by current sources and/or capacitors has no DC
+solution; a loop of ideal voltage sources (plus inductors at DC) over-determines KVL."""
+
+import math
+
+import numpy as np
+import pytest
+from helpers import parts, sources
+
+import xlfuncs
+from xlfuncs import NetworkError, SingularNetworkError
+
+
+def _diag(p, s):
+    with pytest.raises(NetworkError) as exc:
+        xlfuncs.solve(p, s)
+    assert not isinstance(exc.value, np.linalg.LinAlgError)
+    assert "\n" not in str(exc.value)
+    return exc.value, str(exc.value)
+
+
+def test_island_with_no_path_to_reference():
+    err, msg = _diag(
+        parts(["R1", "R", "a", "GND", 1.0], ["R2", "R", "x", "y", 1.0]),
+        sources(["Vs", "V", "a", "GND", 50, 1, 0], ["Is", "I", "a", "x", 50, 1, 0]),
+    )
+    assert err.freq_hz is None and set(err.nodes) == {"x", "y"}
+    assert msg.startswith("network at every frequency: no path to the reference through any part")
+    assert "parts Is" in msg
+
+
+def test_capacitor_cut_set_at_dc():
+    err, msg = _diag(
+        parts(
+            ["R1", "R", "a", "GND", 1.0],
+            ["C1", "C", "a", "b", 1e-6],
+            ["R2", "R", "b", "c", 5.0],
+            ["C2", "C", "c", "GND", 1e-6],
+        ),
+        sources(["Vs", "V", "a", "GND", 0, 1, 0], ["Vs", "V", "a", "GND", 50, 1, 0]),
+    )
+    assert err.freq_hz == 0.0
+    assert set(err.nodes) == {"b", "c"}
+    assert set(err.parts) == {"C1", "C2"}
+    assert msg.startswith("network at 0 Hz (DC): no DC path to the reference")
+
+
+def test_capacitor_cut_set_is_fine_without_dc():
+    sol = xlfuncs.solve(
+        parts(
+            ["R1", "R", "a", "GND", 1.0], ["C1", "C", "a", "b", 1e-6], ["R2", "R", "b", "GND", 5.0]
+        ),
+        sources(["Vs", "V", "a", "GND", 50, 1, 0]),
+    )
+    assert np.isfinite(sol.voltage("b").phasors).all()
+
+
+def test_current_source_into_capacitor_only_at_dc():
+    err, _msg = _diag(
+        parts(["R1", "R", "a", "GND", 1.0], ["C1", "C", "b", "GND", 1e-6]),
+        sources(["Vs", "V", "a", "GND", 50, 1, 0], ["Is", "I", "GND", "b", 0, 1, 0]),
+    )
+    assert err.freq_hz == 0.0 and err.nodes == ("b",) and set(err.parts) == {"C1", "Is"}
+
+
+def test_loop_of_voltage_sources():
+    err, msg = _diag(
+        parts(["R1", "R", "a", "GND", 1.0]),
+        sources(["V1", "V", "a", "GND", 50, 1, 0], ["V2", "V", "a", "GND", 150, 1, 0]),
+    )
+    assert err.freq_hz is None and set(err.parts) == {"V1", "V2"}
+    assert "a loop made only of voltage sources" in msg
+
+
+def test_inductor_loop_with_voltage_source_at_dc():
+    err, msg = _diag(
+        parts(
+            ["L1", "L", "a", "b", 1e-3],
+            ["L2", "L", "b", "GND", 1e-3],
+            ["R1", "R", "a", "GND", 1.0],
+        ),
+        sources(["V1", "V", "a", "GND", 0, 1, 0]),
+    )
+    assert err.freq_hz == 0.0 and set(err.parts) == {"L1", "L2", "V1"}
+    assert msg.startswith(
+        "network at 0 Hz (DC): a loop made only of voltage sources and inductors"
+    )
+
+
+def test_exact_ideal_resonance_is_reported_not_returned():
+    ind, cap = 1e-3, 1e-6
+    f0 = 1 / (2 * math.pi * math.sqrt(ind * cap))
+    with pytest.raises(SingularNetworkError) as exc:
+        xlfuncs.solve(
+            parts(["L1", "L", "n", "GND", ind], ["C1", "C", "n", "GND", cap]),
+            sources(["Is", "I", "GND", "n", f0, 1.0, 0]),
+        )
+    assert exc.value.freq_hz == pytest.approx(f0)
+    assert "n" in exc.value.nodes
+
+
+def test_controlled_sources_that_cancel():
+    # VCVS with gain 1 across its own controlling pair: V(a) = V(a) — no unique solution
+    head = ["name", "kind", "from", "to", "value", "ctrl_from", "ctrl_to"]
+    p = [head, ["R1", "R", "a", "b", 1.0, None, None], ["E1", "VCVS", "b", "GND", 1.0, "a", "GND"]]
+    with pytest.raises(SingularNetworkError) as exc:
+        xlfuncs.solve(p, sources(["Is", "I", "GND", "a", 50, 1.0, 0]))
+    assert exc.value.freq_hz == 50.0
+
+
+@pytest.mark.parametrize("method", ["direct", "pencil"])
+def test_exact_resonance_inside_a_long_frequency_list(method):
+    ind, cap = 1e-3, 1e-6
+    f0 = 1 / (2 * math.pi * math.sqrt(ind * cap))
+    freqs = sorted([*np.geomspace(10, 1e5, 60).tolist(), f0])
+    circuit = xlfuncs.Circuit.from_tables(
+        parts(["L1", "L", "n", "GND", ind], ["C1", "C", "n", "GND", cap]),
+        sources(*[["Is", "I", "GND", "n", f, 1.0, 0] for f in freqs]),
+    )
+    with pytest.raises(SingularNetworkError) as exc:
+        xlfuncs.system_of(circuit).solve(circuit.freqs_hz, method=method)
+    assert exc.value.freq_hz == pytest.approx(f0)
+    assert exc.value.nodes == ("n",)

@@ -1,0 +1,262 @@
+"""The validated, immutable circuit: parts, nodes, sources and their tones.
+
+Build one with :meth:`Circuit.from_tables` (2-D lists as a worksheet delivers them) or
+:meth:`Circuit.from_records` (already-parsed rows). Construction checks every
+cross-reference (control parts, coupled inductors, control nodes) and names the row and
+column of anything that does not resolve.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass, replace
+from typing import Any
+
+import numpy as np
+
+from .errors import InputError, TableError
+from .tables import Options, PartRow, SourceRow, read_options, read_parts, read_sources
+
+__all__ = ["Circuit", "Source", "merge_frequencies"]
+
+# relative tolerance under which two tone frequencies are the same frequency
+FREQ_RTOL = 1e-9
+
+
+@dataclass(frozen=True)
+class Source:
+    """An independent source with one or more tones (frequency, complex peak phasor)."""
+
+    name: str
+    kind: str  # "V" or "I"
+    from_node: str
+    to_node: str
+    row: int  # first row in the sources table
+    tones: tuple[tuple[float, complex], ...]
+
+
+def merge_frequencies(freqs: Sequence[float]) -> np.ndarray:
+    """Sorted unique frequencies; values within a relative 1e-9 count as one."""
+    arr = np.sort(np.asarray(freqs, dtype=float))
+    if arr.size == 0:
+        return arr
+    keep = [arr[0]]
+    for f in arr[1:]:
+        if abs(f - keep[-1]) > FREQ_RTOL * max(abs(f), abs(keep[-1]), 1e-300):
+            keep.append(f)
+    return np.array(keep)
+
+
+@dataclass(frozen=True)
+class Circuit:
+    """A linear network ready to solve.
+
+    Attributes
+    ----------
+    parts : tuple of PartRow
+    sources : tuple of Source
+    nodes : tuple of str
+        Every node but the reference, in order of first appearance.
+    ground : str
+        The reference node's name as the options give it.
+    freqs_hz : numpy.ndarray
+        Every frequency at which some source has a tone, ascending (DC = 0 first).
+    options : Options
+    """
+
+    parts: tuple[PartRow, ...]
+    sources: tuple[Source, ...]
+    nodes: tuple[str, ...]
+    ground: str
+    freqs_hz: np.ndarray
+    options: Options
+
+    # ----------------------------------------------------------------------- builders
+    @classmethod
+    def from_tables(cls, parts: Any, sources: Any = None, options: Any = None) -> Circuit:
+        """Parse worksheet-shaped tables (header row first) and validate the network.
+
+        ``sources`` may be None for impedance scans, which need no sources.
+        """
+        opts = options if isinstance(options, Options) else read_options(options)
+        prows = read_parts(parts)
+        srows = read_sources(sources, opts) if sources is not None else ()
+        return cls.from_records(prows, srows, opts)
+
+    @classmethod
+    def from_records(
+        cls,
+        parts: Sequence[PartRow],
+        sources: Sequence[SourceRow] = (),
+        options: Options | None = None,
+    ) -> Circuit:
+        opts = options or Options()
+        gkey = opts.ground.lower()
+
+        def node(n: str | None) -> str | None:
+            if n is None:
+                return None
+            return opts.ground if n.lower() == gkey else n
+
+        parts = tuple(_replace_nodes(p, node) for p in parts)
+        # group tones into sources
+        grouped: dict[str, list[SourceRow]] = {}
+        for s in sources:
+            grouped.setdefault(s.name.lower(), []).append(s)
+        srcs: list[Source] = []
+        for rows in grouped.values():
+            r0 = rows[0]
+            tones: dict[float, complex] = {}
+            for r in rows:
+                # tones of one source at one frequency add as phasors
+                fkey = _match_key(tones, r.freq_hz)
+                tones[fkey] = tones.get(fkey, 0j) + r.phasor
+            srcs.append(
+                Source(
+                    name=r0.name,
+                    kind=r0.kind,
+                    from_node=node(r0.from_node) or "",
+                    to_node=node(r0.to_node) or "",
+                    row=r0.row,
+                    tones=tuple(sorted(tones.items())),
+                )
+            )
+        # names: parts and sources share one namespace
+        part_by_name = {p.name.lower(): p for p in parts}
+        for src in srcs:
+            if src.name.lower() in part_by_name:
+                other = part_by_name[src.name.lower()]
+                raise InputError(
+                    "sources",
+                    src.row,
+                    "name",
+                    src.name,
+                    f"name already used by a part (parts row {other.row})",
+                )
+        # nodes in order of first appearance (terminals only)
+        seen: dict[str, None] = {}
+        for p in parts:
+            for n in (p.from_node, p.to_node, p.sec_from, p.sec_to):
+                if n is not None and n != opts.ground:
+                    seen.setdefault(n, None)
+        for src in srcs:
+            for n in (src.from_node, src.to_node):
+                if n != opts.ground:
+                    seen.setdefault(n, None)
+        nodes = tuple(seen)
+        if not nodes:
+            raise TableError("parts", f"every part connects only to the reference {opts.ground!r}")
+        node_set = set(nodes) | {opts.ground}
+        src_by_name = {src.name.lower(): src for src in srcs}
+        coupled: dict[tuple[str, str], int] = {}
+        for p in parts:
+            if p.kind in ("VCVS", "VCCS"):
+                for col, n in (("ctrl_from", p.ctrl_from), ("ctrl_to", p.ctrl_to)):
+                    if n not in node_set:
+                        raise InputError(
+                            "parts",
+                            p.row,
+                            col,
+                            n,
+                            "no part or source connects to this node (check the spelling)",
+                        )
+            if p.kind in ("CCVS", "CCCS"):
+                key = (p.ctrl_part or "").lower()
+                target = part_by_name.get(key)
+                if target is None and key not in src_by_name:
+                    raise InputError(
+                        "parts",
+                        p.row,
+                        "ctrl_part",
+                        p.ctrl_part,
+                        "no part or source of that name",
+                    )
+                if target is not None and target.kind == "COUPLING":
+                    raise InputError(
+                        "parts",
+                        p.row,
+                        "ctrl_part",
+                        p.ctrl_part,
+                        "a coupling carries no current; name a two-terminal part",
+                    )
+                if target is p:
+                    raise InputError(
+                        "parts", p.row, "ctrl_part", p.ctrl_part, "a source cannot control itself"
+                    )
+            if p.kind == "COUPLING":
+                pair: list[str] = []
+                for col, coil in (("coil_a", p.coil_a), ("coil_b", p.coil_b)):
+                    target = part_by_name.get((coil or "").lower())
+                    if target is None or target.kind != "L":
+                        raise InputError(
+                            "parts", p.row, col, coil, "expected the name of an inductor (kind L)"
+                        )
+                    pair.append(target.name)
+                key2 = (min(pair), max(pair))  # order-free pair of inductor names
+                if key2 in coupled:
+                    raise InputError(
+                        "parts",
+                        p.row,
+                        "coil_b",
+                        p.coil_b,
+                        f"these inductors are already coupled in row {coupled[key2]}",
+                    )
+                coupled[key2] = p.row
+        freqs = merge_frequencies([f for s in srcs for f, _ in s.tones])
+        freqs.setflags(write=False)
+        return cls(
+            parts=parts,
+            sources=tuple(srcs),
+            nodes=nodes,
+            ground=opts.ground,
+            freqs_hz=freqs,
+            options=opts,
+        )
+
+    # ------------------------------------------------------------------------ lookups
+    def part(self, name: str) -> PartRow:
+        """The part called ``name`` (case-insensitive)."""
+        key = name.lower()
+        for p in self.parts:
+            if p.name.lower() == key:
+                return p
+        raise KeyError(name)
+
+    def find(self, name: str) -> tuple[str, Any]:
+        """Resolve a target name: ``("part", PartRow)``, ``("source", Source)`` or
+        ``("node", str)``. Raises KeyError when nothing has that name."""
+        key = name.strip().lower()
+        for p in self.parts:
+            if p.name.lower() == key:
+                return "part", p
+        for s in self.sources:
+            if s.name.lower() == key:
+                return "source", s
+        if key == self.ground.lower():
+            return "node", self.ground
+        for n in self.nodes:
+            if n.lower() == key:
+                return "node", n
+        raise KeyError(name)
+
+    def __hash__(self) -> int:  # numpy arrays are unhashable; identity is enough
+        return id(self)
+
+
+def _match_key(existing: dict[float, complex], f: float) -> float:
+    for k in existing:
+        if abs(k - f) <= FREQ_RTOL * max(abs(k), abs(f), 1e-300):
+            return k
+    return f
+
+
+def _replace_nodes(p: PartRow, node: Any) -> PartRow:
+    return replace(
+        p,
+        from_node=node(p.from_node),
+        to_node=node(p.to_node),
+        ctrl_from=node(p.ctrl_from),
+        ctrl_to=node(p.ctrl_to),
+        sec_from=node(p.sec_from),
+        sec_to=node(p.sec_to),
+    )
