@@ -23,6 +23,7 @@ from __future__ import annotations
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 from functools import cached_property
+from typing import NoReturn
 
 import numpy as np
 
@@ -352,7 +353,6 @@ def solve_stacked(
         x = np.linalg.solve(a, b[..., None])[..., 0]
     except np.linalg.LinAlgError:
         _raise_singular(system, a, f)
-        raise  # pragma: no cover - _raise_singular always raises
     an = np.abs(a).sum(axis=-1).max(axis=-1) if anorm is None else anorm
     _check_accuracy(system, x, b, f, an, a)
     return x
@@ -378,12 +378,13 @@ def _check_accuracy(
             idx = np.flatnonzero(bad.reshape(-1))
             ff = np.broadcast_to(f, bad.shape).reshape(-1)[idx]
             _raise_singular(system, system.matrices(ff), ff, hint_bad=np.ones(idx.size, bool))
-        _raise_singular(system, a, f, hint_bad=bad)
+        else:
+            _raise_singular(system, a, f, hint_bad=bad)
 
 
 def _raise_singular(
     system: System, a: np.ndarray, f: np.ndarray, hint_bad: np.ndarray | None = None
-) -> None:
+) -> NoReturn:
     """Find the first singular frequency and name the unknowns in its null space."""
     flat_a = a.reshape(-1, system.n, system.n)
     flat_f = np.broadcast_to(f, a.shape[:-2]).reshape(-1)
