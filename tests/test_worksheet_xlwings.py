@@ -1,0 +1,525 @@
+"""The worksheet layer checked through xlwings' own code paths (no Excel here).
+
+* ``xlwings.udfs`` (the Windows UDF server, with its Windows-only imports stubbed)
+  decorates our module exactly as the add-in's "Import Functions" does, and its
+  ``generate_vba_wrapper`` writes the VBA that Excel would receive;
+* arguments go through ``xlwings.conversion.read`` with each argument's declared
+  options and results through ``xlwings.conversion.write``, as ``call_udf`` does.
+"""
+
+from __future__ import annotations
+
+import cmath
+import importlib
+import io
+import math
+import re
+import sys
+import types
+
+import pytest
+
+EXPECTED = [  # the names the product promises (issue: worksheet functions)
+    "CKT_SOLVE",
+    "CKT_RMS",
+    "CKT_PEAK",
+    "CKT_THD",
+    "CKT_POWER",
+    "CKT_REPORT",
+    "CKT_WAVE",
+    "CKT_SCAN",
+    "CKT_VERSION",
+    "CKT_NODES",
+    "CKT_DC",
+    "CKT_CREST",
+]
+
+# VBA keywords that cannot name an argument. [MS-VBAL] VBA Language Specification,
+# §3.3.5.2 "Reserved Identifiers and IDENTIFIER" plus type and statement keywords
+# (list written from memory of that section, not copied from it).
+VBA_RESERVED = {
+    "abs",
+    "addressof",
+    "and",
+    "any",
+    "as",
+    "attribute",
+    "boolean",
+    "byref",
+    "byte",
+    "byval",
+    "call",
+    "case",
+    "cbool",
+    "cbyte",
+    "ccur",
+    "cdate",
+    "cdbl",
+    "cdec",
+    "cint",
+    "circle",
+    "clng",
+    "clnglng",
+    "clngptr",
+    "close",
+    "const",
+    "csng",
+    "cstr",
+    "currency",
+    "cvar",
+    "cverr",
+    "date",
+    "debug",
+    "decimal",
+    "declare",
+    "defbool",
+    "defbyte",
+    "defcur",
+    "defdate",
+    "defdbl",
+    "defdec",
+    "defint",
+    "deflng",
+    "deflnglng",
+    "deflngptr",
+    "defobj",
+    "defsng",
+    "defstr",
+    "defvar",
+    "dim",
+    "do",
+    "double",
+    "each",
+    "else",
+    "elseif",
+    "empty",
+    "end",
+    "endif",
+    "enum",
+    "eqv",
+    "erase",
+    "error",
+    "event",
+    "exit",
+    "false",
+    "fix",
+    "for",
+    "friend",
+    "function",
+    "get",
+    "global",
+    "gosub",
+    "goto",
+    "if",
+    "imp",
+    "implements",
+    "in",
+    "input",
+    "int",
+    "integer",
+    "is",
+    "len",
+    "lenb",
+    "let",
+    "like",
+    "lib",
+    "line",
+    "lock",
+    "long",
+    "longlong",
+    "longptr",
+    "loop",
+    "lset",
+    "me",
+    "mod",
+    "new",
+    "next",
+    "not",
+    "nothing",
+    "null",
+    "object",
+    "on",
+    "open",
+    "option",
+    "optional",
+    "or",
+    "paramarray",
+    "preserve",
+    "print",
+    "private",
+    "pset",
+    "public",
+    "put",
+    "raiseevent",
+    "redim",
+    "rem",
+    "resume",
+    "return",
+    "rset",
+    "scale",
+    "seek",
+    "select",
+    "set",
+    "sgn",
+    "shared",
+    "single",
+    "spc",
+    "static",
+    "stop",
+    "string",
+    "sub",
+    "tab",
+    "then",
+    "to",
+    "true",
+    "type",
+    "typeof",
+    "until",
+    "variant",
+    "wend",
+    "while",
+    "with",
+    "withevents",
+    "write",
+    "xor",
+}
+
+
+def _windows_value_engine():
+    """xlwings' own Windows-engine value cleaning, lifted from ``xlwings/_xlwindows.py``.
+
+    That module needs pywin32 and ctypes.windll to import, so the few pure-Python pieces
+    the conversion pipeline calls (``cell_errors``, ``_clean_value_data_element`` and the
+    ``Engine`` static methods) are taken from its source with ``ast`` and executed here.
+    """
+    import ast
+    import datetime as dt
+    from pathlib import Path
+
+    import numpy as np
+    import xlwings
+
+    src = Path(xlwings.__file__).with_name("_xlwindows.py").read_text(encoding="utf-8")
+    tree = ast.parse(src)
+    keep = []
+    for node in tree.body:
+        if (
+            isinstance(node, ast.Assign)
+            and any(isinstance(t, ast.Name) and t.id == "cell_errors" for t in node.targets)
+        ) or (isinstance(node, ast.FunctionDef) and node.name == "_clean_value_data_element"):
+            keep.append(node)
+        elif isinstance(node, ast.ClassDef) and node.name == "Engine":
+            node.body = [
+                b
+                for b in node.body
+                if isinstance(b, ast.FunctionDef)
+                and b.name in ("prepare_xl_data_element", "clean_value_data", "name", "type")
+            ]
+            keep.append(node)
+    ns = {
+        "np": np,
+        "pd": None,
+        "dt": dt,
+        "time_types": (dt.date, dt.datetime),
+        "_com_time_to_datetime": lambda v, b: v,
+        "_datetime_to_com_time": lambda v: v,
+    }
+    exec(compile(ast.Module(body=keep, type_ignores=[]), "xlwings/_xlwindows.py", "exec"), ns)
+    return xlwings.main.Engine(impl=ns["Engine"]())
+
+
+@pytest.fixture(scope="module")
+def udf():
+    """xlfuncs.worksheet as decorated by xlwings' Windows UDF machinery."""
+    import xlwings
+
+    added_engine = "excel" not in xlwings.engines.engines_by_name
+    if added_engine:
+        xlwings.engines.add(_windows_value_engine())
+
+    stubs = {
+        "pythoncom": types.SimpleNamespace(CoInitialize=lambda: None),
+        "pywintypes": types.SimpleNamespace(com_error=type("com_error", (Exception,), {})),
+        "win32com": types.ModuleType("win32com"),
+        "win32com.client": types.SimpleNamespace(Dispatch=lambda *a, **k: None),
+    }
+    saved_mods = {k: sys.modules.get(k) for k in stubs}
+    saved_attrs = {k: getattr(xlwings, k) for k in ("func", "arg", "ret")}
+    sys.modules.update(stubs)  # type: ignore[arg-type]
+    try:
+        udfs = importlib.import_module("xlwings.udfs")
+        xlwings.func, xlwings.arg, xlwings.ret = udfs.xlfunc, udfs.xlarg, udfs.xlret
+        import xlfuncs.worksheet as ws
+
+        module = importlib.reload(ws)
+        yield types.SimpleNamespace(module=module, udfs=udfs)
+    finally:
+        if added_engine:
+            eng = xlwings.engines.engines_by_name.pop("excel")
+            xlwings.engines.engines.remove(eng)
+        for k, v in saved_attrs.items():
+            setattr(xlwings, k, v)
+        import xlfuncs.worksheet as ws
+
+        importlib.reload(ws)
+        for k, v in saved_mods.items():
+            if v is None:
+                sys.modules.pop(k, None)
+            else:
+                sys.modules[k] = v
+        sys.modules.pop("xlwings.udfs", None)
+
+
+@pytest.fixture(scope="module")
+def vba(udf):
+    buf = io.StringIO()
+    book = types.SimpleNamespace(Name="Calc.xlsm")
+    udf.udfs.generate_vba_wrapper("xlfuncs.worksheet", udf.module, buf, book)
+    return buf.getvalue()
+
+
+def _signatures(vba_text):
+    return {
+        m.group(1): [a.strip() for a in m.group(2).split(",") if a.strip()]
+        for m in re.finditer(r"^Function (\w+)\((.*)\)$", vba_text, re.M)
+    }
+
+
+def test_every_function_is_emitted_under_its_exact_name(vba):
+    sigs = _signatures(vba)
+    assert sorted(sigs) == sorted(EXPECTED)
+    assert 'CKT_SOLVE = XLPy.CallUDF("xlfuncs.worksheet", "CKT_SOLVE"' in vba
+
+
+def test_argument_names_are_valid_vba_and_not_reserved(vba):
+    for fname, args in _signatures(vba).items():
+        for a in args:
+            name = a.removeprefix("Optional ").strip()
+            assert re.fullmatch(r"[A-Za-z][A-Za-z0-9_]{0,254}", name), (fname, name)
+            assert name.lower() not in VBA_RESERVED, (fname, name)
+
+
+def test_optional_arguments_are_declared_optional(udf, vba):
+    sigs = _signatures(vba)
+    import inspect
+
+    for fname, args in sigs.items():
+        params = inspect.signature(getattr(udf.module, fname)).parameters
+        for a in args:
+            name = a.removeprefix("Optional ")
+            optional = params[name].default is not inspect.Parameter.empty
+            assert a.startswith("Optional ") == optional, (fname, a)
+            if optional:  # once one is optional, every later one must be too (VBA rule)
+                pass
+        flags = [a.startswith("Optional ") for a in args]
+        assert flags == sorted(flags), fname
+
+
+def test_dialog_texts_fit_excel(udf):
+    for name in EXPECTED:
+        info = getattr(udf.module, name).__xlfunc__
+        assert info["category"] == "xlfuncs"
+        assert 0 < len(info["ret"]["doc"]) <= 255, name
+        for arg in info["args"]:
+            assert 0 < len(arg["doc"]) <= 255, (name, arg["name"])
+            assert not arg["doc"].startswith("Positional argument"), (name, arg["name"])
+        assert info["ret"]["options"].get("expand") is None  # native spilling, no resizing
+
+
+# ------------------------------------------------------------------- conversion paths
+def call(udf, name, *excel_args):
+    """Mimic xlwings.udfs.call_udf for values passed in (Excel → Python → Excel)."""
+    from xlwings import conversion
+
+    func = getattr(udf.module, name)
+    info = func.__xlfunc__
+    args = []
+    for i, value in enumerate(excel_args):
+        arg_info = info["args"][i]
+        if value is MISSING:
+            args.append(arg_info.get("optional"))
+        else:
+            args.append(conversion.read(None, value, arg_info["options"]))
+    args += [a.get("optional") for a in info["args"][len(excel_args) :]]
+    return conversion.write(func(*args), None, info["ret"]["options"])
+
+
+MISSING = object()
+
+
+def one(udf, name, *excel_args):
+    """A function that returns one value: Excel receives it as a 1×1 array."""
+    out = call(udf, name, *excel_args)
+    assert isinstance(out, list) and len(out) == 1 and len(out[0]) == 1, out
+    return out[0][0]
+
+
+# Excel hands multi-cell ranges over as tuples of row tuples; empty cells are None.
+TEXTBOOK_PARTS = (
+    ("name", "kind", "from", "to", "value", "ctrl_part", "notes"),
+    ("R1", "R", "s", "1", 10.0, None, "Alexander & Sadiku 5th ed. Example 10.1"),
+    ("C1", "C", "1", "GND", 0.1, None, None),
+    ("L1", "L", "1", "2", 1.0, None, None),
+    ("L2", "L", "2", "GND", 0.5, None, None),
+    ("F1", "CCCS", "GND", "2", 2.0, "C1", None),
+    (None, None, None, None, None, None, None),  # the blank rows of an oversized range
+)
+TEXTBOOK_SOURCES = (
+    ("name", "kind", "from", "to", "omega_rad_s", "peak", "phase_deg"),
+    ("Vs", "V", "s", "GND", 4.0, 20.0, 0.0),
+)
+
+
+def test_solve_spills_textbook_example(udf):
+    # C. K. Alexander, M. N. O. Sadiku, Fundamentals of Electric Circuits, 5th ed., Ex. 10.1:
+    # V1 = 18.97∠18.43° V (printed digits; circuit recalled from memory, see test_textbook)
+    out = call(udf, "CKT_SOLVE", TEXTBOOK_PARTS, TEXTBOOK_SOURCES, "1")
+    assert out[0] == ["freq_hz", "peak", "rms", "phase_deg"]
+    assert len(out) == 3 and all(len(r) == 4 for r in out)
+    f, pk, rms, ph = out[1]
+    assert f == pytest.approx(4.0 / (2 * math.pi), rel=1e-15)
+    assert abs(pk - 18.97) <= 0.005 and abs(ph - 18.43) <= 0.005
+    assert rms == pytest.approx(pk / math.sqrt(2), rel=1e-15)
+    assert out[2][0] == "total"
+    assert out[2][1] == pytest.approx(pk, rel=1e-12)  # one tone: true peak = amplitude
+    # i_x through C1 printed as 7.59∠108.4° A; quantity defaults to I for a part
+    ix = call(udf, "CKT_SOLVE", TEXTBOOK_PARTS, TEXTBOOK_SOURCES, "C1")[1]
+    assert abs(ix[1] - 7.59) <= 0.005 and abs(ix[3] - 108.4) <= 0.05
+
+
+DIVIDER_PARTS = (
+    ("Name", "Kind", "From", "To", "Value (Ω)"),
+    ("R1", "R", "in", "out", "1k"),
+    ("R2", "R", "out", "GND", "3k"),
+)
+DIVIDER_SOURCES = (
+    ("name", "kind", "from", "to", "freq_hz", "rms", "phase_deg"),
+    ("Vs", "V", "in", "GND", 0.0, 8.0, None),
+    ("Vs", "V", "in", "GND", 50.0, 4.0, 0.0),
+    ("Vs", "V", "in", "GND", 250.0, 1.0, 0.0),
+)
+
+
+def test_scalar_functions_against_closed_forms(udf):
+    # resistive divider: V(out) = Vs·R2/(R1+R2) = 0.75·Vs at every frequency (common practice)
+    k = 0.75
+    rms = one(udf, "CKT_RMS", DIVIDER_PARTS, DIVIDER_SOURCES, "out")
+    assert rms == pytest.approx(k * math.sqrt(8**2 + 4**2 + 1**2), rel=1e-12)
+    # peak of 8 + 4√2 cos θ + √2 cos 5θ is at θ = 0 (all maxima align)
+    assert one(udf, "CKT_PEAK", DIVIDER_PARTS, DIVIDER_SOURCES, "out") == pytest.approx(
+        k * (8 + 5 * math.sqrt(2)), rel=1e-12
+    )
+    assert one(udf, "CKT_THD", DIVIDER_PARTS, DIVIDER_SOURCES, "out") == pytest.approx(
+        0.25, rel=1e-12
+    )
+    assert one(udf, "CKT_DC", DIVIDER_PARTS, DIVIDER_SOURCES, "out") == pytest.approx(
+        6.0, rel=1e-12
+    )
+    # P(R2) = Σ V_rms²/R over components (IEEE Std 1459-2010 active power)
+    p = one(udf, "CKT_POWER", DIVIDER_PARTS, DIVIDER_SOURCES, "R2")
+    assert p == pytest.approx((k**2) * (64 + 16 + 1) / 3e3, rel=1e-12)
+    cf = one(udf, "CKT_CREST", DIVIDER_PARTS, DIVIDER_SOURCES, "out")
+    assert cf == pytest.approx((8 + 5 * math.sqrt(2)) / math.sqrt(81), rel=1e-12)
+    assert one(udf, "CKT_VERSION") == __import__("xlfuncs").__version__
+
+
+def test_report_and_nodes_spill_rectangular_tables(udf):
+    rep = call(udf, "CKT_REPORT", DIVIDER_PARTS, DIVIDER_SOURCES)
+    assert rep[0] == ["part", "kind", "v_rms", "i_rms", "i_peak", "power_w"]
+    assert [r[0] for r in rep[1:]] == ["R1", "R2", "Vs", "balance"]
+    assert {len(r) for r in rep} == {6}
+    assert abs(rep[-1][5]) < 1e-12
+    i_rms = math.sqrt(8**2 + 4**2 + 1) / 4e3  # I = Vs/(R1+R2)
+    assert rep[1][3] == pytest.approx(i_rms, rel=1e-12)
+    nodes = call(udf, "CKT_NODES", DIVIDER_PARTS, DIVIDER_SOURCES)
+    assert nodes[0] == ["node", "dc", "rms", "peak"] and [r[0] for r in nodes[1:]] == ["in", "out"]
+
+
+def test_wave_spills_one_period(udf):
+    out = call(udf, "CKT_WAVE", DIVIDER_PARTS, DIVIDER_SOURCES, "out", MISSING, 100.0)
+    assert out[0] == ["time_s", "value"] and len(out) == 101
+    assert out[1][1] == pytest.approx(0.75 * (8 + 5 * math.sqrt(2)), rel=1e-12)  # t = 0
+    assert out[-1][0] == pytest.approx(0.02 * 99 / 100, rel=1e-12)  # common period 1/50 s
+
+
+def test_scan_matches_parallel_rc(udf):
+    parts = (
+        ("name", "kind", "from", "to", "value"),
+        ("R1", "R", "n", "GND", 100.0),
+        ("C1", "C", "n", "GND", "10u"),
+    )
+    out = call(udf, "CKT_SCAN", parts, "n", 10.0, 1e5, 9.0)
+    assert out[0] == ["freq_hz", "z_ohm", "angle_deg"] and len(out) == 10
+    for f, z, ang in out[1:]:
+        zc = 1 / (1 / 100.0 + 2j * math.pi * f * 10e-6)  # R ‖ C (common practice)
+        assert z == pytest.approx(abs(zc), rel=1e-12)
+        assert ang == pytest.approx(math.degrees(cmath.phase(zc)), abs=1e-10)
+    assert out[1][0] == pytest.approx(10.0) and out[-1][0] == pytest.approx(1e5)
+
+
+def test_single_cell_options_and_node_numbers(udf):
+    parts = (("name", "kind", "from", "to", "value"), ("R1", "R", 1.0, "0", 2.0))
+    sources = (("name", "kind", "from", "to", "freq_hz", "peak"), ("I1", "I", "0", 1.0, 50.0, 3.0))
+    opts = (("ground", "0"),)
+    # node named 1 arrives as the number 1.0; the reference is renamed to "0"
+    assert one(udf, "CKT_PEAK", parts, sources, 1.0, "V", opts) == pytest.approx(6.0, rel=1e-15)
+
+
+@pytest.mark.parametrize(
+    ("name", "args", "message"),
+    [
+        (
+            "CKT_SOLVE",
+            (
+                ((("name", "kind", "from", "to", "value"), ("R1", "R", "a", "GND", "4.7q"))),
+                DIVIDER_SOURCES,
+                "a",
+            ),
+            "ERROR: parts row 2, column value: '4.7q' — unknown unit prefix 'q' (use f p n u µ m k M G T)",
+        ),
+        (
+            "CKT_RMS",
+            (DIVIDER_PARTS, DIVIDER_SOURCES, "nowhere"),
+            "ERROR: argument, column target: 'nowhere' — no part, source or node of that name",
+        ),
+        (
+            "CKT_RMS",
+            (DIVIDER_PARTS, DIVIDER_SOURCES, "out", "W"),
+            "ERROR: argument, column quantity: 'W' — expected V or I",
+        ),
+        (
+            "CKT_SCAN",
+            (DIVIDER_PARTS, "out", 100.0, 10.0),
+            "ERROR: argument, column f_stop: 10.0 — expected a frequency > f_start",
+        ),
+        (
+            "CKT_THD",
+            (
+                (("name", "kind", "from", "to", "value"), ("R1", "R", "a", "GND", 1.0)),
+                (
+                    ("name", "kind", "from", "to", "freq_hz", "peak"),
+                    ("V", "V", "a", "GND", 0.0, 1.0),
+                ),
+                "a",
+            ),
+            "ERROR: argument: 'V(a)' — THD needs an AC tone; the signal is DC only",
+        ),
+    ],
+)
+def test_errors_are_one_short_line_in_the_cell(udf, name, args, message):
+    out = one(udf, name, *args)
+    assert out == message
+    assert "\n" not in out and "Traceback" not in out and len(out) <= 255
+
+
+def test_identical_inputs_are_solved_once_and_edits_are_never_stale(udf):
+    m = udf.module
+    m.cache_clear()
+    a = one(udf, "CKT_RMS", DIVIDER_PARTS, DIVIDER_SOURCES, "out")
+    b = one(udf, "CKT_PEAK", tuple(tuple(r) for r in DIVIDER_PARTS), DIVIDER_SOURCES, "R1")
+    info = m._solve_cached.cache_info()
+    assert (info.misses, info.hits) == (1, 1) and a > 0 and b > 0
+    edited = (*DIVIDER_PARTS[:2], ("R2", "R", "out", "GND", "1k"))
+    c = one(udf, "CKT_RMS", edited, DIVIDER_SOURCES, "out")
+    assert c == pytest.approx(0.5 * math.sqrt(81), rel=1e-12)  # R2 = R1 now halves Vs
+    assert m._solve_cached.cache_info().misses == 2
