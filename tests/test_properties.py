@@ -136,7 +136,8 @@ def test_linearity_in_the_sources(net, k):
         for r in s[1:]
     ]
     sol2 = _solve(p, s2)
-    np.testing.assert_allclose(sol2.x, k * sol.x, rtol=1e-9, atol=1e-12 * np.abs(sol.x).max())
+    # round-off grows with the condition number of random networks (values span 1e-1..1e4 Ω)
+    np.testing.assert_allclose(sol2.x, k * sol.x, rtol=1e-9, atol=1e-10 * np.abs(sol.x).max())
 
 
 def test_transformer_network_power_balance():

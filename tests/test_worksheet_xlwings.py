@@ -32,6 +32,16 @@ EXPECTED = [  # the names the product promises (issue: worksheet functions)
     "CKT_NODES",
     "CKT_DC",
     "CKT_CREST",
+    # studies
+    "CKT_RESONANCES",
+    "CKT_V519",
+    "CKT_I519",
+    "CKT_V519_LIMITS",
+    "CKT_I519_LIMIT",
+    "CKT_CAPDUTY",
+    "CKT_DETUNE",
+    "CKT_DRIVE",
+    "CKT_TOLERANCE",
 ]
 
 # VBA keywords that cannot name an argument. [MS-VBAL] VBA Language Specification,
@@ -125,6 +135,11 @@ VBA_RESERVED = {
     "lib",
     "line",
     "lock",
+    "name",
+    "width",
+    "mid",
+    "kill",
+    "reset",
     "long",
     "longlong",
     "longptr",
@@ -523,3 +538,103 @@ def test_identical_inputs_are_solved_once_and_edits_are_never_stale(udf):
     c = one(udf, "CKT_RMS", edited, DIVIDER_SOURCES, "out")
     assert c == pytest.approx(0.5 * math.sqrt(81), rel=1e-12)  # R2 = R1 now halves Vs
     assert m._solve_cached.cache_info().misses == 2
+
+
+# --------------------------------------------------------------------------- studies
+def test_detune_spills_the_published_example(udf):
+    # published detuned-reactor calculation: 80 kvar, 525 V, 50 Hz, p = 7 % → X_C = 3.445 Ω,
+    # L = 0.768 mH, 189 Hz (project reference notes)
+    out = call(udf, "CKT_DETUNE", 80.0, 525.0, 50.0, 0.07)
+    rows = {r[0]: r[1] for r in out[1:]}
+    assert round(rows["capacitor reactance"], 3) == 3.445
+    assert round(rows["reactor inductance"] * 1e3, 3) == 0.768
+    assert round(rows["tuned frequency"]) == 189
+    same = call(udf, "CKT_DETUNE", 80.0, 525.0, 50.0, 1 / math.sqrt(0.07))  # by order
+    assert same[3][1] == pytest.approx(rows["tuned frequency"], rel=1e-12)
+
+
+def test_drive_table_feeds_back_into_thd(udf):
+    src = call(udf, "CKT_DRIVE", "Id", "GND", "bus", 100.0)
+    assert src[0] == ["name", "kind", "from", "to", "harmonic", "rms", "phase_deg"]
+    src.append(["Id", "I", "GND", "bus", 1.0, 100.0, 0.0])
+    parts = (("name", "kind", "from", "to", "value"), ("R", "R", "bus", "GND", 1.0))
+    thd = one(
+        udf, "CKT_THD", parts, tuple(map(tuple, src)), "R", MISSING, (("fundamental_hz", 50.0),)
+    )
+    assert round(100 * thd) == 29  # ideal six-pulse, orders 5…25: ≈ 29 % (drives guide)
+
+
+def test_519_limits_lookup(udf):
+    assert call(udf, "CKT_V519_LIMITS", 0.48) == [
+        ["individual_pct", "thd_pct"],
+        [5.0, 8.0],
+    ]  # Table 1
+    assert one(udf, "CKT_I519_LIMIT", 11.0, 75.0) == 4.5  # Table 2 row 50<100, 11≤h<17
+
+
+def test_v519_and_capduty_on_a_bank(udf):
+    w = 2 * math.pi * 60
+    c = 4.8e3 / (w * 480**2)
+    parts = (("name", "kind", "from", "to", "value"), ("C1", "C", "b", "GND", c))
+    src = (
+        ("name", "kind", "from", "to", "harmonic", "rms"),
+        ("V", "V", "b", "GND", 1.0, 480.0),
+        ("V", "V", "b", "GND", 5.0, 48.0),
+    )
+    opts = (("fundamental_hz", 60.0),)
+    v = call(udf, "CKT_V519", parts, src, "b", 0.48, opts)
+    assert v[1][:3] == ["h5", pytest.approx(10.0), 5.0] and v[1][3] == "FAIL"  # Table 1: 5 %
+    assert v[-2] == ["verdict", "", "", "FAIL"] and v[-1][0] == "basis"
+    duty = call(udf, "CKT_CAPDUTY", parts, src, "C1", 4.8, 480.0, opts)
+    assert duty[0] == ["quantity", "value", "rated", "ratio", "limit", "pass"]
+    rc = {r[0]: r for r in duty[1:]}
+    assert rc["rms current"][3] == pytest.approx(math.sqrt(1.25), rel=1e-12)
+    assert rc["rms current"][5] == "PASS"
+
+
+def test_i519_uses_isc_over_il(udf):
+    parts = (("name", "kind", "from", "to", "value"), ("R", "R", "b", "GND", 1.0))
+    src = (
+        ("name", "kind", "from", "to", "harmonic", "rms"),
+        ("I", "I", "GND", "b", 1.0, 100.0),
+        ("I", "I", "GND", "b", 5.0, 9.0),
+    )
+    out = call(
+        udf, "CKT_I519", parts, src, "R", 7500.0, 125.0, 13.8, MISSING, (("fundamental_hz", 60.0),)
+    )
+    # Isc/IL = 60 → Table 2 row 50<100: 5th limited to 10 %; 9 A / 125 A = 7.2 % passes
+    assert out[1] == ["h5", pytest.approx(7.2), 10.0, "PASS"]
+    assert out[2] == ["TDD", pytest.approx(7.2), 12.0, "PASS"]
+
+
+def test_resonances_spill(udf):
+    w = 2 * math.pi * 60
+    x = 0.053 * 480**2 / 1e6
+    parts = (
+        ("name", "kind", "from", "to", "value"),
+        ("Ls", "L", "bus", "GND", x / w),
+        ("Cb", "C", "bus", "GND", 100e3 / (w * 480**2)),
+        ("Rp", "R", "bus", "GND", 100.0),
+    )
+    out = call(
+        udf, "CKT_RESONANCES", parts, "bus", 60.0, 3000.0, MISSING, (("fundamental_hz", 60.0),)
+    )
+    assert out[0] == ["kind", "freq_hz", "order", "z_ohm"]
+    assert out[1][0] == "parallel" and out[1][2] == pytest.approx(13.7, abs=0.05)  # rule of thumb
+
+
+def test_tolerance_spills_statistics(udf):
+    parts = (
+        ("name", "kind", "from", "to", "value", "tolerance"),
+        ("R1", "R", "in", "out", 1000.0, "10%"),
+        ("R2", "R", "out", "GND", 1000.0, None),
+    )
+    src = (("name", "kind", "from", "to", "freq_hz", "peak"), ("V", "V", "in", "GND", 50.0, 10.0))
+    out = call(udf, "CKT_TOLERANCE", parts, src, "out", "rms", 500.0)
+    stats = {r[0]: r[1] for r in out[1:]}
+    assert stats["nominal"] == pytest.approx(10 / math.sqrt(2) / 2, rel=1e-12)
+    # corners: R1 = 900 or 1100 → V = 10/√2 · 1000/(1000 + R1)
+    assert stats["corner max (exhaustive)"] == pytest.approx(
+        10 / math.sqrt(2) * 1000 / 1900, rel=1e-12
+    )
+    assert stats["samples"] == 500

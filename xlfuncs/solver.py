@@ -122,8 +122,9 @@ class System:
 
     # --------------------------------------------------------------------------- matrix
     def matrices(self, freqs_hz: np.ndarray, theta: np.ndarray | None = None) -> np.ndarray:
-        """Stacked MNA matrices ``(F, n, n)`` (or ``(S, F, n, n)`` for ``theta`` of
-        shape ``(S, P)``)."""
+        """Stacked MNA matrices ``(F, n, n)``; with ``theta`` of shape ``(S, P)`` (one
+        parameter set per sample) ``(S, F, n, n)``, and then ``freqs_hz`` may also be
+        ``(S, F)`` (frequencies per sample)."""
         f = np.asarray(freqs_hz, dtype=float)
         th = self.theta if theta is None else np.asarray(theta, dtype=float)
         n = self.n
@@ -145,23 +146,29 @@ class System:
                     np.add.at(pat, (self.rows[sel], self.cols[sel]), self.signs[sel] * th[p])
                     out += ph[:, p, None, None].real * pat[None]
             return out
-        # batched parameters: (S, P) -> (S, F, n, n) through one real matmul per basis
-        pats = self._patterns()  # (P, n*n)
-        ph = self.phi(f)  # (F, P)
-        coef = th[:, None, :] * ph[None, :, :]  # (S, F, P)
-        s_, f_ = coef.shape[:2]
-        out = np.empty((s_, f_, n * n), dtype=complex)
-        out.real[...] = coef.real.reshape(-1, th.shape[1]) @ pats
-        jw_cols = np.flatnonzero(self.basis == B_JW)
-        out.imag[...] = (
-            coef.imag[..., jw_cols].reshape(-1, jw_cols.size) @ pats[jw_cols]
-        ).reshape(s_, f_, n * n)
+        # batched parameters: (S, P) -> (S, F, n, n); only the structurally non-zero
+        # entries are computed, with two real matrix products
+        nz, pats = self._nz_patterns  # (U,), (P, U)
+        if f.ndim == 2:  # a frequency list per sample: (S, G)
+            coef = th[:, None, :] * self.phi(f.ravel()).reshape((*f.shape, th.shape[1]))
+        else:
+            coef = th[:, None, :] * self.phi(f)[None, :, :]  # (S, F, P)
+        s_, f_, p_ = coef.shape
+        flat = coef.reshape(-1, p_)
+        vals = np.empty((flat.shape[0], nz.size), dtype=complex)
+        vals.real = flat.real @ pats
+        vals.imag = flat.imag @ pats
+        out = np.zeros((flat.shape[0], n * n), dtype=complex)
+        out[:, nz] = vals
         return out.reshape(s_, f_, n, n)
 
-    def _patterns(self) -> np.ndarray:
-        pats = np.zeros((self.theta.size, self.n * self.n))
-        np.add.at(pats, (self.param, self.rows * self.n + self.cols), self.signs)
-        return pats
+    @cached_property
+    def _nz_patterns(self) -> tuple[np.ndarray, np.ndarray]:
+        flat = self.rows * self.n + self.cols
+        nz, pos = np.unique(flat, return_inverse=True)
+        pats = np.zeros((self.theta.size, nz.size))
+        np.add.at(pats, (self.param, pos), self.signs)
+        return nz, pats
 
     def rhs(self, freqs_hz: np.ndarray) -> np.ndarray:
         """``(F, n)`` right-hand side from the sources' tones at ``freqs_hz``."""
