@@ -23,6 +23,7 @@ test: $(STAMP)
 
 bench: $(STAMP)
 	$(BIN)/python benchmarks/bench_solver.py
+	$(BIN)/python benchmarks/bench_studies.py
 
 lint: $(STAMP)
 	$(BIN)/ruff check xlfuncs tests benchmarks examples

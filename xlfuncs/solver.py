@@ -229,10 +229,12 @@ class System:
         return rows.max(axis=1)
 
     # ------------------------------------------------------------------------- extract
-    def element_voltages(self, x: np.ndarray) -> np.ndarray:
-        """``(..., E)`` voltage V(from) − V(to) of every element from solutions x."""
+    def element_voltages(self, x: np.ndarray, only: Sequence[int] | None = None) -> np.ndarray:
+        """``(..., E)`` voltage V(from) − V(to) of every element (or of the elements
+        ``only``, in that order) from solutions x."""
+        sel = np.arange(len(self.elem_names)) if only is None else np.asarray(only, dtype=int)
         xz = np.concatenate([x, np.zeros((*x.shape[:-1], 1), dtype=x.dtype)], axis=-1)
-        return xz[..., self.elem_plus] - xz[..., self.elem_minus]
+        return xz[..., self.elem_plus[sel]] - xz[..., self.elem_minus[sel]]
 
     def element_power(
         self, x: np.ndarray, freqs_hz: np.ndarray, v: np.ndarray, i: np.ndarray
@@ -249,25 +251,34 @@ class System:
         return w * np.real(s)
 
     def element_currents(
-        self, x: np.ndarray, freqs_hz: np.ndarray, theta: np.ndarray | None = None
+        self,
+        x: np.ndarray,
+        freqs_hz: np.ndarray,
+        theta: np.ndarray | None = None,
+        only: Sequence[int] | None = None,
     ) -> np.ndarray:
-        """``(..., F, E)`` current of every element (from → to through it)."""
+        """``(..., F, E)`` current of every element (from → to through it), or of the
+        elements ``only``, in that order."""
+        sel = np.arange(len(self.elem_names)) if only is None else np.asarray(only, dtype=int)
+        pos = np.full(len(self.elem_names), -1)
+        pos[sel] = np.arange(sel.size)
+        keep = pos[self.cur_elem] >= 0
         th = self.theta if theta is None else np.asarray(theta)
         ph = self.phi(freqs_hz)  # (F, P)
-        xs = x[..., self.cur_index]  # (..., F, T)
-        has_p = self.cur_param >= 0
-        pidx = np.where(has_p, self.cur_param, 0)
+        xs = x[..., self.cur_index[keep]]  # (..., F, T)
+        cur_param = self.cur_param[keep]
+        has_p = cur_param >= 0
+        pidx = np.where(has_p, cur_param, 0)
         coef = np.where(has_p, th[..., pidx][..., None, :] * ph[:, pidx], 1.0)
-        terms = self.cur_sign * coef * xs
-        out = np.zeros((*x.shape[:-1], len(self.elem_names)), dtype=complex)
+        terms = self.cur_sign[keep] * coef * xs
         # scatter-add terms into elements: one matmul with a 0/1 map
-        emap = np.zeros((self.cur_elem.size, len(self.elem_names)))
-        emap[np.arange(self.cur_elem.size), self.cur_elem] = 1.0
-        out += terms @ emap
-        own = self.cur_src >= 0
+        emap = np.zeros((int(keep.sum()), sel.size))
+        emap[np.arange(emap.shape[0]), pos[self.cur_elem[keep]]] = 1.0
+        out = (terms @ emap).astype(complex, copy=False)
+        own = self.cur_src[sel] >= 0
         if own.any():
             tones = self.tones(freqs_hz)
-            out[..., own] += tones[:, self.cur_src[own]]
+            out[..., own] += tones[:, self.cur_src[sel][own]]
         return out
 
     # --------------------------------------------------------------------------- solve

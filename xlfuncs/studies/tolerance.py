@@ -182,8 +182,8 @@ class _Evaluator:
             sig = x[..., self.idx] if self.idx >= 0 else np.zeros(x.shape[:2], complex)
             v = sig
         else:
-            v = sysm.element_voltages(x)[..., self.e]
-            i = sysm.element_currents(x, self.f, theta)[..., self.e]
+            v = sysm.element_voltages(x, only=[self.e])[..., 0]
+            i = sysm.element_currents(x, self.f, theta, only=[self.e])[..., 0]
             sig = v if self.q == "V" else i
         spec = Spectrum(
             self.f,
@@ -279,7 +279,7 @@ def tolerance_study(
     seed: int = 0,
     corners: bool = True,
     workers: int = 2,
-    chunk: int = 1024,
+    chunk: int = 2048,
     resonance_span: float = 1.6,
 ) -> ToleranceResult:
     """Spread of one result over the parts' tolerances.
