@@ -14,6 +14,7 @@ from .errors import (
     SingularNetworkError,
     TableError,
     UnitError,
+    WorkbookError,
     XlfuncsError,
 )
 from .solution import PeakResult, Solution, Spectrum, common_period, true_peak
@@ -39,6 +40,7 @@ __all__ = [
     "Spectrum",
     "TableError",
     "UnitError",
+    "WorkbookError",
     "XlfuncsError",
     "__version__",
     "common_period",

@@ -8,8 +8,9 @@ about this package::
     ├── InputError (ValueError)        a cell of an input table is wrong
     │   └── UnitError                  a value's unit or SI prefix is wrong
     ├── TableError (ValueError)        a whole table is wrong (empty, missing column)
-    └── NetworkError (ValueError)      the tables are valid but the network is ill-posed
-        └── SingularNetworkError       no unique solution at some frequency
+    ├── NetworkError (ValueError)      the tables are valid but the network is ill-posed
+    │   └── SingularNetworkError       no unique solution at some frequency
+    └── WorkbookError (ValueError)     a workbook file is unreadable, hostile or unsupported
 
 Each error keeps structured fields (``table``, ``row``, ``column``, ``value``...) and
 builds its one-line message in ``__str__``. Rows are counted as the user counts them
@@ -27,6 +28,7 @@ __all__ = [
     "SingularNetworkError",
     "TableError",
     "UnitError",
+    "WorkbookError",
     "XlfuncsError",
 ]
 
@@ -155,3 +157,27 @@ class NetworkError(XlfuncsError, ValueError):
 
 class SingularNetworkError(NetworkError):
     """The network equations are singular at some frequency (found numerically)."""
+
+
+class WorkbookError(XlfuncsError, ValueError):
+    """A workbook (or cases file) cannot be used: unreadable, hostile or unsupported.
+
+    Parameters
+    ----------
+    path : str
+        The file concerned.
+    problem : str
+        What is wrong, in words a user can act on.
+    where : str
+        Optional place inside the file (a sheet, a part of the archive, a cell).
+    """
+
+    def __init__(self, path: str, problem: str, where: str = "") -> None:
+        self.path = path
+        self.problem = problem
+        self.where_ = where
+        super().__init__(path, problem, where)
+
+    def __str__(self) -> str:
+        loc = f" ({self.where_})" if self.where_ else ""
+        return f"{self.path}{loc}: {self.problem}"

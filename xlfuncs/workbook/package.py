@@ -1,0 +1,347 @@
+"""Reading and writing the parts of a workbook package that recalculation touches.
+
+Writing never goes through a spreadsheet library's save (an openpyxl load/save drops the
+dynamic-array metadata and writes no cached values). Instead the input archive is copied
+member by member, byte for byte, and only the ``<sheetData>`` of changed worksheets is
+edited in place: cached values (``<v>``) of formula cells, the values of spilled cells,
+the ``ref`` of spilling formulas, and the ``<dimension>``. Styles, number formats, widths,
+merged cells, charts, defined names, a ``.xlsm``'s VBA project and the dynamic-array
+metadata all pass through untouched. Output is written to a temporary file and renamed.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+import re
+import tempfile
+import zipfile
+from collections.abc import Iterable
+from dataclasses import dataclass, field
+from pathlib import Path, PurePosixPath
+from typing import Any
+from xml.sax.saxutils import escape
+
+from defusedxml.ElementTree import fromstring
+from openpyxl.utils import get_column_letter
+from openpyxl.utils.cell import column_index_from_string, coordinate_from_string
+
+from ..errors import WorkbookError
+from .engine import CellError
+
+__all__ = ["FormulaCell", "Package", "SheetXml", "write_atomic"]
+
+_NS_MAIN = "http://schemas.openxmlformats.org/spreadsheetml/2006/main"
+_NS_REL = "http://schemas.openxmlformats.org/officeDocument/2006/relationships"
+_NS_PKG_REL = "http://schemas.openxmlformats.org/package/2006/relationships"
+_ATTR = re.compile(r'([\w:]+)\s*=\s*"([^"]*)"')
+
+_METADATA_XML = (
+    '<?xml version="1.0" encoding="UTF-8" standalone="yes"?>\n'
+    '<metadata xmlns="http://schemas.openxmlformats.org/spreadsheetml/2006/main" '
+    'xmlns:xda="http://schemas.microsoft.com/office/spreadsheetml/2017/dynamicarray">'
+    '<metadataTypes count="1"><metadataType name="XLDAPR" minSupportedVersion="120000" '
+    'copy="1" pasteAll="1" pasteValues="1" merge="1" splitFirst="1" rowColShift="1" '
+    'clearFormats="1" clearComments="1" assign="1" coerce="1" cellMeta="1"/></metadataTypes>'
+    '<futureMetadata name="XLDAPR" count="1"><bk><extLst>'
+    '<ext uri="{bdbb8cdc-fa1e-496e-a857-3c3f30c029c3}">'
+    '<xda:dynamicArrayProperties fDynamic="1" fCollapsed="0"/></ext></extLst></bk>'
+    '</futureMetadata><cellMetadata count="1"><bk><rc t="1" v="0"/></bk></cellMetadata>'
+    "</metadata>"
+)
+
+
+def _attrs(tag: str) -> dict[str, str]:
+    return dict(_ATTR.findall(tag))
+
+
+def _ref(row: int, col: int) -> str:
+    return f"{get_column_letter(col)}{row}"
+
+
+def _parse_ref(ref: str) -> tuple[int, int]:
+    letters, row = coordinate_from_string(ref)
+    return int(row), column_index_from_string(letters)
+
+
+@dataclass
+class FormulaCell:
+    row: int
+    col: int
+    f_type: str  # "", "array", "shared", "dataTable"
+    f_ref: str  # the f element's ref (array/shared), "" otherwise
+    cm: str  # the cell's cell-metadata index, "" when none
+
+
+@dataclass
+class _Row:
+    attrs: str  # the row's attribute text, as found
+    cells: dict[int, str] = field(default_factory=dict)  # col -> full <c> element
+
+
+class SheetXml:
+    """One worksheet's XML with an editable ``<sheetData>``."""
+
+    def __init__(self, xml: str, part: str) -> None:
+        self.part = part
+        m = re.search(r"<(\w+:)?sheetData\b[^>]*?(?:/>|>(.*?)</\1?sheetData>)", xml, re.S)
+        if m is None:
+            raise WorkbookError(part, "worksheet without sheetData")
+        self.prefix = m.group(1) or ""
+        self._head, self._tail = xml[: m.start()], xml[m.end() :]
+        self._open = f"<{self.prefix}sheetData>"
+        self.rows: dict[int, _Row] = {}
+        self._changed_rows: set[int] = set()
+        body = m.group(2) or ""
+        p = re.escape(self.prefix)
+        next_row = 1
+        for rm in re.finditer(rf"<{p}row\b([^>]*?)(?:/>|>(.*?)</{p}row>)", body, re.S):
+            ra = _attrs(rm.group(1))
+            r = int(ra.get("r", next_row))
+            next_row = r + 1
+            row = _Row(rm.group(1))
+            next_col = 1
+            for cm_ in re.finditer(
+                rf"<{p}c\b([^>]*?)(?:/>|>(.*?)</{p}c>)", rm.group(2) or "", re.S
+            ):
+                ca = _attrs(cm_.group(1))
+                if "r" in ca:
+                    _rr, c = _parse_ref(ca["r"])
+                else:
+                    c = next_col
+                next_col = c + 1
+                row.cells[c] = cm_.group(0)
+            self.rows[r] = row
+
+    # ---------------------------------------------------------------------- reading
+    def formula_cells(self) -> list[FormulaCell]:
+        out = []
+        p = re.escape(self.prefix)
+        for r, row in self.rows.items():
+            for c, cell in row.cells.items():
+                fm = re.search(rf"<{p}f\b([^>]*?)(?:/>|>)", cell)
+                if fm is None:
+                    continue
+                fa = _attrs(fm.group(1))
+                ca = _attrs(cell[: cell.index(">")])
+                out.append(FormulaCell(r, c, fa.get("t", ""), fa.get("ref", ""), ca.get("cm", "")))
+        return out
+
+    def has_formula(self, row: int, col: int) -> bool:
+        cell = self.rows.get(row, _Row("")).cells.get(col)
+        return cell is not None and re.search(rf"<{re.escape(self.prefix)}f\b", cell) is not None
+
+    # ---------------------------------------------------------------------- writing
+    def _value_xml(self, value: Any, formula: bool) -> tuple[str | None, str]:
+        """(t attribute or None, inner XML) for a cached value."""
+        p = self.prefix
+        if isinstance(value, CellError):
+            return "e", f"<{p}v>{escape(value.code)}</{p}v>"
+        if isinstance(value, bool):
+            return "b", f"<{p}v>{int(value)}</{p}v>"
+        if isinstance(value, (int, float)):
+            x = float(value)
+            if not math.isfinite(x):
+                return "e", f"<{p}v>#NUM!</{p}v>"
+            return None, f"<{p}v>{x!r}</{p}v>"
+        if value is None:
+            return ("str", f"<{p}v></{p}v>") if formula else (None, "")
+        text = escape(str(value))
+        if formula:
+            return "str", f"<{p}v>{text}</{p}v>"
+        return "inlineStr", f'<{p}is><{p}t xml:space="preserve">{text}</{p}t></{p}is>'
+
+    def set_formula_value(
+        self, row: int, col: int, value: Any, spill_ref: str | None = None, cm: str | None = None
+    ) -> None:
+        """Refresh a formula cell's cached value; for a spilling anchor set its ``ref``
+        (and the dynamic-array cell-metadata index ``cm`` when given)."""
+        p = re.escape(self.prefix)
+        cell = self.rows[row].cells[col]
+        open_end = cell.index(">")
+        self_closing = cell[open_end - 1] == "/"
+        open_tag = cell[: open_end - 1 if self_closing else open_end]
+        inner = "" if self_closing else cell[open_end + 1 : cell.rindex("<")]
+        fm = re.search(rf"<{p}f\b[^>]*?(?:/>|>.*?</{p}f>)", inner, re.S)
+        f_xml = fm.group(0) if fm else ""
+        ext = re.search(rf"<{p}extLst\b.*?</{p}extLst>", inner, re.S)
+        if spill_ref is not None and f_xml:
+            ftag_end = f_xml.index(">")
+            ftag = f_xml[:ftag_end]
+            selfc = ftag.endswith("/")
+            ftag = ftag.rstrip("/")
+            ftag = re.sub(r'\s(t|ref)="[^"]*"', "", ftag)
+            ftag += f' t="array" ref="{spill_ref}"'
+            f_xml = ftag + ("/>" if selfc else f_xml[ftag_end:])
+        t, v_xml = self._value_xml(value, formula=True)
+        open_tag = re.sub(r'\st="[^"]*"', "", open_tag)
+        if cm is not None:
+            open_tag = re.sub(r'\scm="[^"]*"', "", open_tag) + f' cm="{cm}"'
+        if t:
+            open_tag += f' t="{t}"'
+        self.rows[row].cells[col] = (
+            f"{open_tag}>{f_xml}{v_xml}{ext.group(0) if ext else ''}</{self.prefix}c>"
+        )
+        self._changed_rows.add(row)
+
+    def set_value(self, row: int, col: int, value: Any) -> None:
+        """Write a plain (non-formula) value, keeping the cell's style."""
+        pfx = self.prefix
+        row_obj = self.rows.setdefault(row, _Row(f' r="{row}"'))
+        old = row_obj.cells.get(col)
+        style = ""
+        if old is not None:
+            s = _attrs(old[: old.index(">")]).get("s")
+            style = f' s="{s}"' if s else ""
+        t, inner = self._value_xml(value, formula=False)
+        t_attr = f' t="{t}"' if t else ""
+        if inner:
+            row_obj.cells[col] = f'<{pfx}c r="{_ref(row, col)}"{style}{t_attr}>{inner}</{pfx}c>'
+        elif style:
+            row_obj.cells[col] = f'<{pfx}c r="{_ref(row, col)}"{style}/>'
+        else:
+            row_obj.cells.pop(col, None)
+        self._changed_rows.add(row)
+
+    def render(self) -> str:
+        parts = []
+        for r in sorted(self.rows):
+            row = self.rows[r]
+            attrs = row.attrs
+            if r in self._changed_rows:
+                attrs = re.sub(r'\sspans="[^"]*"', "", attrs)  # an optional hint; now stale
+            if not row.cells:
+                parts.append(f"<{self.prefix}row{attrs}/>")
+                continue
+            cells = "".join(row.cells[c] for c in sorted(row.cells))
+            parts.append(f"<{self.prefix}row{attrs}>{cells}</{self.prefix}row>")
+        body = f"{self._open}{''.join(parts)}</{self.prefix}sheetData>"
+        head = self._head
+        used = [(r, c) for r, row in self.rows.items() for c in row.cells]
+        if used:
+            r1, r2 = min(u[0] for u in used), max(u[0] for u in used)
+            c1, c2 = min(u[1] for u in used), max(u[1] for u in used)
+            dim = f"{_ref(r1, c1)}:{_ref(r2, c2)}" if (r1, c1) != (r2, c2) else _ref(r1, c1)
+            head = re.sub(
+                rf'(<{re.escape(self.prefix)}dimension\b[^>]*\sref=")[^"]*(")',
+                rf"\g<1>{dim}\g<2>",
+                head,
+            )
+        return head + body + self._tail
+
+
+class Package:
+    """The parts of a workbook archive, read once; edits are collected, then written."""
+
+    def __init__(self, path: str | Path) -> None:
+        self.path = str(path)
+        with zipfile.ZipFile(self.path) as zf:
+            self.infos = zf.infolist()
+            self.data = {i.filename: zf.read(i) for i in self.infos}
+        self.replaced: dict[str, bytes] = {}
+        self.sheet_paths = self._sheet_paths()
+        self._sheets: dict[str, SheetXml] = {}
+
+    def _sheet_paths(self) -> dict[str, str]:
+        wb = fromstring(self.data["xl/workbook.xml"])
+        rels_name = "xl/_rels/workbook.xml.rels"
+        targets: dict[str, str] = {}
+        if rels_name in self.data:
+            for rel in fromstring(self.data[rels_name]):
+                t = rel.get("Target", "")
+                path = t.lstrip("/") if t.startswith("/") else str(PurePosixPath("xl") / t)
+                targets[rel.get("Id", "")] = os.path.normpath(path).replace(os.sep, "/")
+        out = {}
+        sheets = wb.find(f"{{{_NS_MAIN}}}sheets")
+        for s in sheets if sheets is not None else []:
+            rid = s.get(f"{{{_NS_REL}}}id", "")
+            if rid in targets and targets[rid] in self.data:
+                out[s.get("name", "")] = targets[rid]
+        return out
+
+    def sheet(self, name: str) -> SheetXml:
+        if name not in self._sheets:
+            part = self.sheet_paths.get(name)
+            if part is None:
+                raise WorkbookError(self.path, f"no worksheet named {name!r}")
+            self._sheets[name] = SheetXml(self.data[part].decode("utf-8"), part)
+        return self._sheets[name]
+
+    # --------------------------------------------------------------- dynamic arrays
+    def dynamic_array_cm(self, create: bool) -> str | None:
+        """The cell-metadata index that marks a dynamic-array formula (adding the
+        metadata part when ``create`` and there is none)."""
+        name = "xl/metadata.xml"
+        raw = self.replaced.get(name, self.data.get(name))
+        if raw is not None:
+            root = fromstring(raw)
+            types = root.find(f"{{{_NS_MAIN}}}metadataTypes")
+            names = [t.get("name") for t in (types if types is not None else [])]
+            if "XLDAPR" not in names:
+                return None
+            type_idx = str(names.index("XLDAPR") + 1)
+            cells = root.find(f"{{{_NS_MAIN}}}cellMetadata")
+            for k, bk in enumerate(cells if cells is not None else []):
+                for rc in bk:
+                    if rc.get("t") == type_idx:
+                        return str(k + 1)
+            return None
+        if not create:
+            return None
+        self.replaced[name] = _METADATA_XML.encode("utf-8")
+        ct = self.replaced.get("[Content_Types].xml", self.data["[Content_Types].xml"]).decode(
+            "utf-8"
+        )
+        if "/xl/metadata.xml" not in ct:
+            ct = ct.replace(
+                "</Types>",
+                '<Override PartName="/xl/metadata.xml" ContentType="application/'
+                'vnd.openxmlformats-officedocument.spreadsheetml.sheetMetadata+xml"/></Types>',
+            )
+            self.replaced["[Content_Types].xml"] = ct.encode("utf-8")
+        rels_name = "xl/_rels/workbook.xml.rels"
+        rels = self.replaced.get(rels_name, self.data[rels_name]).decode("utf-8")
+        if "sheetMetadata" not in rels:
+            ids = {int(m) for m in re.findall(r'Id="rId(\d+)"', rels)}
+            rid = f"rId{max(ids, default=0) + 1}"
+            rels = rels.replace(
+                "</Relationships>",
+                f'<Relationship Id="{rid}" Type="http://schemas.openxmlformats.org/'
+                'officeDocument/2006/relationships/sheetMetadata" Target="metadata.xml"/>'
+                "</Relationships>",
+            )
+            self.replaced[rels_name] = rels.encode("utf-8")
+        return "1"
+
+    # ------------------------------------------------------------------------ write
+    def write(self, out_path: str | Path) -> None:
+        for sx in self._sheets.values():
+            self.replaced[sx.part] = sx.render().encode("utf-8")
+        members: list[tuple[zipfile.ZipInfo | str, bytes]] = []
+        for info in self.infos:
+            members.append((info, self.replaced.get(info.filename, self.data[info.filename])))
+        known = {i.filename for i in self.infos}
+        for name, raw in self.replaced.items():
+            if name not in known:
+                members.append((name, raw))
+        write_atomic(out_path, members)
+
+
+def write_atomic(
+    out_path: str | Path, members: Iterable[tuple[zipfile.ZipInfo | str, bytes]]
+) -> None:
+    """Write a zip archive to a temporary file beside ``out_path``, then rename it."""
+    out = Path(out_path)
+    out.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(prefix=f".{out.name}.", suffix=".tmp", dir=out.parent)
+    try:
+        with os.fdopen(fd, "wb") as fh, zipfile.ZipFile(fh, "w", zipfile.ZIP_DEFLATED) as zf:
+            for info, raw in members:
+                if isinstance(info, zipfile.ZipInfo):
+                    zf.writestr(info, raw, compress_type=info.compress_type)
+                else:
+                    zf.writestr(info, raw)
+        os.replace(tmp, out)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
