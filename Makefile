@@ -4,7 +4,7 @@ VENV := .venv
 BIN := $(VENV)/bin
 STAMP := $(VENV)/.installed
 
-.PHONY: demo test bench lint docs clean
+.PHONY: demo test bench lint docs templates clean
 
 $(STAMP): pyproject.toml
 	$(PY) -m venv $(VENV)
@@ -13,10 +13,7 @@ $(STAMP): pyproject.toml
 	touch $(STAMP)
 
 demo: $(STAMP)
-	$(BIN)/xlfuncs solve examples/demo_parts.csv examples/demo_sources.csv \
-		--options examples/demo_options.csv --target C_bank --quantity I
-	$(BIN)/xlfuncs report examples/demo_parts.csv examples/demo_sources.csv \
-		--options examples/demo_options.csv
+	$(BIN)/python examples/demo.py
 
 test: $(STAMP)
 	$(BIN)/python -m pytest -q
@@ -32,6 +29,9 @@ lint: $(STAMP)
 
 docs: $(STAMP)
 	$(BIN)/python -m xlfuncs.docgen docs/FUNCTIONS.md
+
+templates: $(STAMP)
+	$(BIN)/python -m xlfuncs.templates workbook_templates
 
 clean:
 	rm -rf $(VENV) .pytest_cache .mypy_cache .ruff_cache build *.egg-info

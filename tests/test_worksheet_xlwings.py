@@ -42,6 +42,7 @@ EXPECTED = [  # the names the product promises (issue: worksheet functions)
     "CKT_DETUNE",
     "CKT_DRIVE",
     "CKT_TOLERANCE",
+    "CKT_IMPEDANCE",
 ]
 
 # VBA keywords that cannot name an argument. [MS-VBAL] VBA Language Specification,
@@ -638,3 +639,15 @@ def test_tolerance_spills_statistics(udf):
         10 / math.sqrt(2) * 1000 / 1900, rel=1e-12
     )
     assert stats["samples"] == 500
+
+
+def test_impedance_at_given_frequencies(udf):
+    parts = (
+        ("name", "kind", "from", "to", "value"),
+        ("R1", "R", "n", "GND", 100.0),
+        ("C1", "C", "n", "GND", "10u"),
+    )
+    out = call(udf, "CKT_IMPEDANCE", parts, "n", ((300.0, None, 60.0),))
+    assert [r[0] for r in out[1:]] == [300.0, 60.0]  # in the order given, blanks skipped
+    for f, z, _ang in out[1:]:
+        assert z == pytest.approx(abs(1 / (0.01 + 2j * math.pi * f * 10e-6)), rel=1e-12)  # R ‖ C

@@ -37,6 +37,7 @@ __all__ = [
     "CKT_DRIVE",
     "CKT_I519",
     "CKT_I519_LIMIT",
+    "CKT_IMPEDANCE",
     "CKT_NODES",
     "CKT_PEAK",
     "CKT_POWER",
@@ -87,6 +88,7 @@ _ARGS: dict[str, tuple[str, dict[str, Any]]] = {
         {"ndim": 2},
     ),
     "points": ("Optional number of rows to return.", {}),
+    "freqs": ("Frequencies in Hz (a range or a single cell), each ≥ 0.", {"ndim": 2}),
     "f_start": ("First frequency of the scan, Hz (> 0).", {}),
     "f_stop": ("Last frequency of the scan, Hz (> f_start).", {}),
     "bus_kv": (
@@ -385,6 +387,25 @@ def CKT_SCAN(
     f = scan_freqs(f_start, f_stop, _points(points))
     return _scan_cached(
         _freeze(parts), _name(node, "node"), tuple(f.tolist()), _freeze(options), _freeze(sources)
+    )
+
+
+@_sheet_function(
+    "Impedance seen at a node against the reference at given frequencies, sources zeroed (spills).",
+    "Header freq_hz | z_ohm | angle_deg, one row per given frequency (blank cells skipped), in "
+    "the order given. Sources are zeroed as in CKT_SCAN.",
+)
+def CKT_IMPEDANCE(parts, node, freqs, options=None, sources=None):
+    flat = []
+    for row in freqs or []:
+        for v in row:
+            if v is None or v == "":
+                continue
+            flat.append(_num(v, "freqs"))
+    if not flat:
+        raise InputError("argument", None, "freqs", expected="at least one frequency")
+    return _scan_cached(
+        _freeze(parts), _name(node, "node"), tuple(flat), _freeze(options), _freeze(sources)
     )
 
 

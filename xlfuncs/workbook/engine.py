@@ -14,7 +14,6 @@ import inspect
 import math
 from collections.abc import Callable
 from dataclasses import dataclass
-from pathlib import Path
 from typing import Any, Protocol
 
 from ..errors import WorkbookError
@@ -187,13 +186,14 @@ class FormualizerEngine:
             )
 
     @classmethod
-    def load(cls, path: str | Path, limits: Limits = DEFAULT_LIMITS) -> FormualizerEngine:
+    def load(cls, data: bytes, name: str, limits: Limits = DEFAULT_LIMITS) -> FormualizerEngine:
+        """Load a workbook from its bytes (``name`` is only used in messages)."""
         import formualizer as fz
 
         try:
-            book = fz.load_workbook(str(path))
+            book = fz.load_workbook_bytes(data)
         except Exception as exc:  # the engine's own parse errors
-            raise WorkbookError(str(path), f"the formula engine cannot read it: {exc}") from None
+            raise WorkbookError(name, f"the formula engine cannot read it: {exc}") from None
         return cls(book, limits)
 
     def sheet_names(self) -> list[str]:
@@ -244,6 +244,6 @@ def _quote(sheet: str) -> str:
     return f"'{sheet}'" if not sheet.replace("_", "").isalnum() else sheet
 
 
-def load_engine(path: str | Path, limits: Limits = DEFAULT_LIMITS) -> FormulaEngine:
-    """Load ``path`` into the formula engine with our functions registered."""
-    return FormualizerEngine.load(path, limits)
+def load_engine(data: bytes, name: str, limits: Limits = DEFAULT_LIMITS) -> FormulaEngine:
+    """Load a workbook (its bytes) into the formula engine with our functions registered."""
+    return FormualizerEngine.load(data, name, limits)

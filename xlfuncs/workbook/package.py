@@ -11,6 +11,7 @@ metadata all pass through untouched. Output is written to a temporary file and r
 
 from __future__ import annotations
 
+import io
 import math
 import os
 import re
@@ -29,7 +30,7 @@ from openpyxl.utils.cell import column_index_from_string, coordinate_from_string
 from ..errors import WorkbookError
 from .engine import CellError
 
-__all__ = ["FormulaCell", "Package", "SheetXml", "write_atomic"]
+__all__ = ["FormulaCell", "Package", "SheetXml", "cells_of", "write_atomic"]
 
 _NS_MAIN = "http://schemas.openxmlformats.org/spreadsheetml/2006/main"
 _NS_REL = "http://schemas.openxmlformats.org/officeDocument/2006/relationships"
@@ -313,8 +314,21 @@ class Package:
             self.replaced[rels_name] = rels.encode("utf-8")
         return "1"
 
+    def drop_cached_spills(self) -> None:
+        """Remove the cached values of spilled cells (plain cells inside an array
+        formula's ``ref``), leaving every formula in place. The formula engine would take
+        them for user values that block the spill; Excel knows them as the formula's output."""
+        for name in self.sheet_paths:
+            sx = self.sheet(name)
+            for fc in sx.formula_cells():
+                if fc.f_type != "array" or ":" not in fc.f_ref:
+                    continue
+                for r, c in cells_of(fc.f_ref) - {(fc.row, fc.col)}:
+                    if not sx.has_formula(r, c) and r in sx.rows:
+                        sx.rows[r].cells.pop(c, None)
+
     # ------------------------------------------------------------------------ write
-    def write(self, out_path: str | Path) -> None:
+    def _members(self) -> list[tuple[zipfile.ZipInfo | str, bytes]]:
         for sx in self._sheets.values():
             self.replaced[sx.part] = sx.render().encode("utf-8")
         members: list[tuple[zipfile.ZipInfo | str, bytes]] = []
@@ -324,7 +338,27 @@ class Package:
         for name, raw in self.replaced.items():
             if name not in known:
                 members.append((name, raw))
-        write_atomic(out_path, members)
+        return members
+
+    def write(self, out_path: str | Path) -> None:
+        write_atomic(out_path, self._members())
+
+    def to_bytes(self) -> bytes:
+        buf = io.BytesIO()
+        with zipfile.ZipFile(buf, "w", zipfile.ZIP_DEFLATED) as zf:
+            for info, raw in self._members():
+                zf.writestr(info, raw)
+        return buf.getvalue()
+
+
+def cells_of(ref: str) -> set[tuple[int, int]]:
+    """Every (row, col) of an A1 range reference."""
+    from openpyxl.utils.cell import range_boundaries
+
+    if not ref:
+        return set()
+    c1, r1, c2, r2 = range_boundaries(ref)
+    return {(r, c) for r in range(int(r1), int(r2) + 1) for c in range(int(c1), int(c2) + 1)}
 
 
 def write_atomic(

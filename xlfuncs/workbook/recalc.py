@@ -19,7 +19,7 @@ from openpyxl.utils.cell import range_boundaries
 
 from ..errors import WorkbookError
 from .engine import CellError, FormulaEngine, load_engine
-from .package import Package
+from .package import Package, cells_of
 from .safety import DEFAULT_LIMITS, Limits, check_archive
 
 __all__ = ["PreparedBook", "RecalcReport", "default_output", "parse_value", "recalc"]
@@ -65,9 +65,11 @@ class PreparedBook:
     def __init__(self, path: str | Path, limits: Limits = DEFAULT_LIMITS) -> None:
         self.path = str(path)
         check_archive(self.path, limits)
-        self.engine: FormulaEngine = load_engine(self.path, limits)
-        self._names = self.engine.named_ranges()
         self._template = Package(self.path)
+        for_engine = Package(self.path)
+        for_engine.drop_cached_spills()
+        self.engine: FormulaEngine = load_engine(for_engine.to_bytes(), self.path, limits)
+        self._names = self.engine.named_ranges()
         self._sheets = self.engine.sheet_names()
 
     # ------------------------------------------------------------------ addressing
@@ -151,7 +153,7 @@ class PreparedBook:
                     if fc.f_type in ("shared", "dataTable")
                     else self.engine.spill_extent(sheet, fc.row, fc.col)
                 )
-                old = _cells_of(fc.f_ref) if fc.f_type == "array" else set()
+                old = cells_of(fc.f_ref) if fc.f_type == "array" else set()
                 if ext is not None:
                     r1, c1, r2, c2 = ext
                     ref = f"{get_column_letter(c1)}{r1}" + (
@@ -180,13 +182,6 @@ class PreparedBook:
                         sx.set_value(r, c, None)
         pkg.write(out)
         return RecalcReport(str(out), n_f, n_s, errors)
-
-
-def _cells_of(ref: str) -> set[tuple[int, int]]:
-    if not ref:
-        return set()
-    c1, r1, c2, r2 = range_boundaries(ref)
-    return {(r, c) for r in range(int(r1), int(r2) + 1) for c in range(int(c1), int(c2) + 1)}
 
 
 def recalc(
