@@ -21,6 +21,7 @@ test: $(STAMP)
 bench: $(STAMP)
 	$(BIN)/python benchmarks/bench_solver.py
 	$(BIN)/python benchmarks/bench_studies.py
+	$(BIN)/python benchmarks/bench_batch.py
 
 lint: $(STAMP)
 	$(BIN)/ruff check xlfuncs tests benchmarks examples
