@@ -15,6 +15,7 @@ from typing import Any
 from . import __version__
 from .api import impedance_scan, solve
 from .errors import XlfuncsError
+from .tables import parse_cell
 from .views import element_table, node_table, scan_freqs, scan_table, solve_table
 
 __all__ = ["main", "read_csv_table"]
@@ -30,21 +31,11 @@ def read_csv_table(path: str | Path) -> list[list[Any]]:
         raise XlfuncsFileError(f"cannot read {str(p)!r}: {exc.strerror or exc}") from None
     except UnicodeDecodeError:
         raise XlfuncsFileError(f"{str(p)!r} is not UTF-8 text (save the CSV as UTF-8)") from None
-    return [[_cell(c) for c in r] for r in rows]
+    return [[parse_cell(c) for c in r] for r in rows]
 
 
 class XlfuncsFileError(XlfuncsError, OSError):
     """A file named on the command line cannot be read."""
-
-
-def _cell(text: str) -> Any:
-    s = text.strip()
-    if s == "":
-        return None
-    try:
-        return float(s)
-    except ValueError:
-        return s
 
 
 def format_table(rows: Sequence[Sequence[Any]]) -> str:

@@ -319,10 +319,8 @@ class System:
         """True when some resistor follows R(f) = R·(f/f1)^x (A(ω) is then not affine)."""
         return bool(np.any((self.basis == B_INV_SCALE) | (self.basis == B_SCALE)))
 
-    @cached_property
-    def _schur(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
-        from scipy.linalg import qz
-
+    def pencil(self) -> tuple[np.ndarray, np.ndarray]:
+        """``(A0, A1)`` with A(ω) = A0 + jω·A1 (nominal values; no resistance law)."""
         n = self.n
         a0 = np.zeros((n, n))
         a1 = np.zeros((n, n))
@@ -330,6 +328,13 @@ class System:
         const = self.basis[self.param] == B_CONST
         np.add.at(a0, (self.rows[const], self.cols[const]), vals[const])
         np.add.at(a1, (self.rows[~const], self.cols[~const]), vals[~const])
+        return a0, a1
+
+    @cached_property
+    def _schur(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+        from scipy.linalg import qz
+
+        a0, a1 = self.pencil()
         aa, bb, q, z = qz(a0.astype(complex), a1.astype(complex), output="complex")
         return aa, bb, q, z
 

@@ -23,6 +23,7 @@ __all__ = [
     "Options",
     "PartRow",
     "SourceRow",
+    "parse_cell",
     "read_options",
     "read_parts",
     "read_sources",
@@ -597,3 +598,20 @@ def read_options(data: Any) -> Options:
                 raise InputError("options", rownum, "value", cell, "expected a whole number ≥ 2")
             values[key] = int(n)
     return Options(**values)
+
+
+def parse_cell(text: str) -> Any:
+    """Text from a CSV file or a command line, as a worksheet cell would hold it: empty →
+    None, a number → float, TRUE/FALSE → bool, ``"quoted"`` → the text inside, else text."""
+    s = text.strip()
+    if s == "":
+        return None
+    try:
+        return float(s)
+    except ValueError:
+        pass
+    if s.upper() in ("TRUE", "FALSE"):
+        return s.upper() == "TRUE"
+    if len(s) >= 2 and s[0] == s[-1] == '"':
+        return s[1:-1]
+    return s

@@ -159,6 +159,26 @@ class _Book:
             ws.write(row, 4, note)
         self.wb.define_name(name, f"={ws.name}!$B${row + 1}")
 
+    def chart(
+        self,
+        ws: Any,
+        anchor: str,
+        kind: str,
+        title: str,
+        x_axis: dict[str, Any],
+        y_axis: dict[str, Any],
+        series: Sequence[dict[str, Any]],
+    ) -> None:
+        """A native chart: ``kind`` "line" (x–y lines) or "column"; series as XlsxWriter takes them."""
+        spec = {"type": "scatter", "subtype": "straight"} if kind == "line" else {"type": kind}
+        ch = self.wb.add_chart(spec)
+        for one in series:
+            ch.add_series(one)
+        ch.set_title({"name": title})
+        ch.set_x_axis(x_axis)
+        ch.set_y_axis(y_axis)
+        ws.insert_chart(anchor, ch, {"x_scale": 1.2, "y_scale": 1.1})
+
     def data_sheet(self) -> Any:
         ws = self.wb.add_worksheet("Data")
         ws.write("A1", f"{self.title} — long spilled results used by the charts", self.f["title"])
@@ -494,65 +514,70 @@ def plant_harmonics(path: Path) -> None:
         f'=CKT_CAPDUTY({args},"C_bank",cap_steps*cap_kvar_step/3,cap_v_rated/SQRT(3),opts)',
     )
 
-    ch = b.wb.add_chart({"type": "column"})
-    ch.add_series(
-        {
-            "name": "V_h % of fundamental",
-            "categories": "=Results!$G$21:$G$28",
-            "values": "=Results!$I$21:$I$28",
-            "fill": {"color": TEAL},
-        }
-    )
-    ch.add_series(
-        {
-            "name": "IEEE 519 individual limit",
-            "categories": "=Results!$G$21:$G$28",
-            "values": "=Results!$J$21:$J$28",
-            "fill": {"color": "#C0C0C0"},
-        }
-    )
-    ch.set_title({"name": "Bus voltage harmonics"})
-    ch.set_x_axis({"name": "harmonic order"})
-    ch.set_y_axis({"name": "% of fundamental"})
     res.write(53, 0, "Charts", b.f["label"])
-    res.insert_chart("A55", ch, {"x_scale": 1.2, "y_scale": 1.1})
+    b.chart(
+        res,
+        "A55",
+        "column",
+        "Bus voltage harmonics",
+        {"name": "harmonic order"},
+        {"name": "% of fundamental"},
+        [
+            {
+                "name": "V_h % of fundamental",
+                "categories": "=Results!$G$21:$G$28",
+                "values": "=Results!$I$21:$I$28",
+                "fill": {"color": TEAL},
+            },
+            {
+                "name": "IEEE 519 individual limit",
+                "categories": "=Results!$G$21:$G$28",
+                "values": "=Results!$J$21:$J$28",
+                "fill": {"color": "#C0C0C0"},
+            },
+        ],
+    )
 
-    sc = b.wb.add_chart({"type": "scatter", "subtype": "straight"})
-    sc.add_series(
-        {
-            "name": "|Z| at the bus",
-            "categories": "=Data!$A$7:$A$206",
-            "values": "=Data!$B$7:$B$206",
-            "line": {"color": NAVY, "width": 1.5},
-        }
+    b.chart(
+        res,
+        "A72",
+        "line",
+        "Impedance scan with injected harmonic orders",
+        {"name": "frequency (Hz)", "log_base": 10},
+        {"name": "|Z| (ohm)"},
+        [
+            {
+                "name": "|Z| at the bus",
+                "categories": "=Data!$A$7:$A$206",
+                "values": "=Data!$B$7:$B$206",
+                "line": {"color": NAVY, "width": 1.5},
+            },
+            {
+                "name": "injected orders",
+                "categories": "=Results!$H$21:$H$28",
+                "values": "=Results!$K$21:$K$28",
+                "marker": {"type": "diamond", "size": 8, "fill": {"color": "#C0392B"}},
+                "line": {"none": True},
+            },
+        ],
     )
-    sc.add_series(
-        {
-            "name": "injected orders",
-            "categories": "=Results!$H$21:$H$28",
-            "values": "=Results!$K$21:$K$28",
-            "marker": {"type": "diamond", "size": 8, "fill": {"color": "#C0392B"}},
-            "line": {"none": True},
-        }
-    )
-    sc.set_title({"name": "Impedance scan with injected harmonic orders"})
-    sc.set_x_axis({"name": "frequency (Hz)", "log_base": 10})
-    sc.set_y_axis({"name": "|Z| (ohm)"})
-    res.insert_chart("A72", sc, {"x_scale": 1.2, "y_scale": 1.1})
 
-    wv = b.wb.add_chart({"type": "scatter", "subtype": "straight"})
-    wv.add_series(
-        {
-            "name": "bus voltage",
-            "categories": "=Data!$E$7:$E$406",
-            "values": "=Data!$F$7:$F$406",
-            "line": {"color": TEAL},
-        }
+    b.chart(
+        res,
+        "A89",
+        "line",
+        "Bus voltage waveform (one period)",
+        {"name": "time (s)"},
+        {"name": "V"},
+        [
+            {
+                "name": "bus voltage",
+                "categories": "=Data!$E$7:$E$406",
+                "values": "=Data!$F$7:$F$406",
+                "line": {"color": TEAL},
+            },
+        ],
     )
-    wv.set_title({"name": "Bus voltage waveform (one period)"})
-    wv.set_x_axis({"name": "time (s)"})
-    wv.set_y_axis({"name": "V"})
-    res.insert_chart("A89", wv, {"x_scale": 1.2, "y_scale": 1.1})
     res.print_area("A1:L105")
 
     # ---------------------------------------------------------------- checks
@@ -829,20 +854,23 @@ def detuned_filter(path: Path) -> None:
     b.spill(res, 19, 5, f'=CKT_CAPDUTY({args},"C_det",bank_kvar/3,cap_v_rated/SQRT(3),opts)')
     res.write(38, 0, "Resonances seen at the bus", b.f["label"])
     b.spill(res, 39, 0, '=CKT_RESONANCES(parts_tbl,"BUS",f_hz,30*f_hz,400,opts,sources_tbl)')
-    sc = b.wb.add_chart({"type": "scatter", "subtype": "straight"})
-    sc.add_series(
-        {
-            "name": "|Z| at the bus",
-            "categories": "=Data!$A$7:$A$206",
-            "values": "=Data!$B$7:$B$206",
-            "line": {"color": NAVY},
-        }
-    )
-    sc.set_title({"name": "Bus impedance with the detuned bank"})
-    sc.set_x_axis({"name": "frequency (Hz)", "log_base": 10})
-    sc.set_y_axis({"name": "|Z| (ohm)"})
     res.write(45, 0, "Chart", b.f["label"])
-    res.insert_chart("A47", sc, {"x_scale": 1.2, "y_scale": 1.1})
+    b.chart(
+        res,
+        "A47",
+        "line",
+        "Bus impedance with the detuned bank",
+        {"name": "frequency (Hz)", "log_base": 10},
+        {"name": "|Z| (ohm)"},
+        [
+            {
+                "name": "|Z| at the bus",
+                "categories": "=Data!$A$7:$A$206",
+                "values": "=Data!$B$7:$B$206",
+                "line": {"color": NAVY},
+            },
+        ],
+    )
 
     chk = b.sheet(
         "Checks", "Checks — pass/fail against limits, with the source of each limit", caution=True
@@ -1045,46 +1073,55 @@ def dc_link_ripple(path: Path) -> None:
         b.output(res, 5 + k, label, formula, unit, name, note)
     res.write(18, 0, "Output voltage per frequency", b.f["label"])
     b.spill(res, 19, 0, f'=CKT_SOLVE({args},"OUT","V")')
-    wv = b.wb.add_chart({"type": "scatter", "subtype": "straight"})
-    wv.add_series(
-        {
-            "name": "output voltage",
-            "categories": "=Data!$A$7:$A$406",
-            "values": "=Data!$B$7:$B$406",
-            "line": {"color": NAVY},
-        }
-    )
-    wv.set_title({"name": "Output voltage ripple (one switching period)"})
-    wv.set_x_axis({"name": "time (s)"})
-    wv.set_y_axis({"name": "V"})
     res.write(39, 0, "Charts", b.f["label"])
-    res.insert_chart("A41", wv, {"x_scale": 1.2, "y_scale": 1.1})
-    il = b.wb.add_chart({"type": "scatter", "subtype": "straight"})
-    il.add_series(
-        {
-            "name": "inductor current",
-            "categories": "=Data!$D$7:$D$406",
-            "values": "=Data!$E$7:$E$406",
-            "line": {"color": TEAL},
-        }
+    b.chart(
+        res,
+        "A41",
+        "line",
+        "Output voltage ripple (one switching period)",
+        {"name": "time (s)"},
+        {"name": "V"},
+        [
+            {
+                "name": "output voltage",
+                "categories": "=Data!$A$7:$A$406",
+                "values": "=Data!$B$7:$B$406",
+                "line": {"color": NAVY},
+            },
+        ],
     )
-    il.set_title({"name": "Inductor current (one switching period)"})
-    il.set_x_axis({"name": "time (s)"})
-    il.set_y_axis({"name": "A"})
-    res.insert_chart("A58", il, {"x_scale": 1.2, "y_scale": 1.1})
-    sp = b.wb.add_chart({"type": "column"})
-    sp.add_series(
-        {
-            "name": "output voltage peak per frequency",
-            "categories": "=Results!$A$22:$A$36",
-            "values": "=Results!$B$22:$B$36",
-            "fill": {"color": TEAL},
-        }
+    b.chart(
+        res,
+        "A58",
+        "line",
+        "Inductor current (one switching period)",
+        {"name": "time (s)"},
+        {"name": "A"},
+        [
+            {
+                "name": "inductor current",
+                "categories": "=Data!$D$7:$D$406",
+                "values": "=Data!$E$7:$E$406",
+                "line": {"color": TEAL},
+            },
+        ],
     )
-    sp.set_title({"name": "Output ripple spectrum (AC tones)"})
-    sp.set_x_axis({"name": "frequency (Hz)"})
-    sp.set_y_axis({"name": "V peak", "log_base": 10})
-    res.insert_chart("A75", sp, {"x_scale": 1.2, "y_scale": 1.1})
+    b.chart(
+        res,
+        "A75",
+        "column",
+        "Output ripple spectrum (AC tones)",
+        {"name": "frequency (Hz)"},
+        {"name": "V peak", "log_base": 10},
+        [
+            {
+                "name": "output voltage peak per frequency",
+                "categories": "=Results!$A$22:$A$36",
+                "values": "=Results!$B$22:$B$36",
+                "fill": {"color": TEAL},
+            },
+        ],
+    )
 
     chk = b.sheet(
         "Checks", "Checks — pass/fail against limits, with the source of each limit", caution=True

@@ -249,6 +249,10 @@ def _quantity(value: Any) -> str | None:
     return q
 
 
+def _signal(parts: Any, sources: Any, target: Any, quantity: Any, options: Any) -> Any:
+    return _solution(parts, sources, options).signal(_name(target, "target"), _quantity(quantity))
+
+
 def _points(value: Any) -> int | None:
     if value is None or value == "":
         return None
@@ -282,8 +286,7 @@ def CKT_SOLVE(parts, sources, target, quantity=None, options=None):
     "One number, V or A (IEEE Std 1459-2010 RMS of a non-sinusoidal quantity).",
 )
 def CKT_RMS(parts, sources, target, quantity=None, options=None):
-    sp = _solution(parts, sources, options).signal(_name(target, "target"), _quantity(quantity))
-    return float(sp.rms_total)
+    return float(_signal(parts, sources, target, quantity, options).rms_total)
 
 
 @_sheet_function(
@@ -292,8 +295,7 @@ def CKT_RMS(parts, sources, target, quantity=None, options=None):
     "common period, the bound |DC| + sum of tone peaks (never exceeded).",
 )
 def CKT_PEAK(parts, sources, target, quantity=None, options=None):
-    sp = _solution(parts, sources, options).signal(_name(target, "target"), _quantity(quantity))
-    return float(sp.true_peak().value)
+    return float(_signal(parts, sources, target, quantity, options).true_peak().value)
 
 
 @_sheet_function(
@@ -304,8 +306,7 @@ def CKT_PEAK(parts, sources, target, quantity=None, options=None):
     "519-2014 basis.",
 )
 def CKT_THD(parts, sources, target, quantity=None, options=None):
-    sp = _solution(parts, sources, options).signal(_name(target, "target"), _quantity(quantity))
-    return float(sp.thd())
+    return float(_signal(parts, sources, target, quantity, options).thd())
 
 
 @_sheet_function(
@@ -313,8 +314,7 @@ def CKT_THD(parts, sources, target, quantity=None, options=None):
     "One number, V or A.",
 )
 def CKT_DC(parts, sources, target, quantity=None, options=None):
-    sp = _solution(parts, sources, options).signal(_name(target, "target"), _quantity(quantity))
-    return float(sp.dc)
+    return float(_signal(parts, sources, target, quantity, options).dc)
 
 
 @_sheet_function(
@@ -322,8 +322,7 @@ def CKT_DC(parts, sources, target, quantity=None, options=None):
     "One number (ratio).",
 )
 def CKT_CREST(parts, sources, target, quantity=None, options=None):
-    sp = _solution(parts, sources, options).signal(_name(target, "target"), _quantity(quantity))
-    return float(sp.crest_factor)
+    return float(_signal(parts, sources, target, quantity, options).crest_factor)
 
 
 @_sheet_function(

@@ -19,7 +19,7 @@ import numpy as np
 from ..api import _node_index
 from ..circuit import Circuit
 from ..errors import InputError
-from ..solver import B_CONST, System, build_system
+from ..solver import System, build_system
 
 __all__ = ["Resonance", "find_resonances", "resonance_order_rule"]
 
@@ -57,12 +57,7 @@ def _pencil_seeds(system: System, idx: int, lo: float, hi: float) -> tuple[np.nd
     from scipy.linalg import eigvals
 
     n = system.n
-    a0 = np.zeros((n, n))
-    a1 = np.zeros((n, n))
-    vals = system.signs * system.theta[system.param]
-    const = system.basis[system.param] == B_CONST
-    np.add.at(a0, (system.rows[const], system.cols[const]), vals[const])
-    np.add.at(a1, (system.rows[~const], system.cols[~const]), vals[~const])
+    a0, a1 = system.pencil()
     # A(s) = A0 + s·A1 is singular where s is an eigenvalue of the pencil (A0, −A1)
     with np.errstate(all="ignore"):
         poles = eigvals(a0, -a1)

@@ -18,6 +18,7 @@ from openpyxl.utils import get_column_letter
 from openpyxl.utils.cell import range_boundaries
 
 from ..errors import WorkbookError
+from ..tables import parse_cell
 from .engine import CellError, FormulaEngine, load_engine
 from .package import Package, cells_of
 from .safety import DEFAULT_LIMITS, Limits, check_archive
@@ -28,19 +29,8 @@ _ADDRESS = re.compile(r"^(?:'((?:[^']|'')+)'|([^!']+))!\$?([A-Za-z]{1,3})\$?(\d+
 
 
 def parse_value(text: str) -> Any:
-    """A value typed on the command line or in a cases file: number, TRUE/FALSE or text."""
-    s = text.strip()
-    if s == "":
-        return None
-    try:
-        return float(s)
-    except ValueError:
-        pass
-    if s.upper() in ("TRUE", "FALSE"):
-        return s.upper() == "TRUE"
-    if len(s) >= 2 and s[0] == s[-1] == '"':
-        return s[1:-1]
-    return s
+    """A value typed on the command line or in a cases file (see ``tables.parse_cell``)."""
+    return parse_cell(text)
 
 
 def default_output(path: str | Path) -> Path:
