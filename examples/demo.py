@@ -32,7 +32,7 @@ def main() -> int:
         f"recalculated {rep.formulas} formulas ({rep.spills} spilled blocks) in {time.perf_counter() - t0:.2f} s\n"
     )
     print("Key results")
-    for r in range(6, 17):
+    for r in range(6, 19):
         label, value, unit = (res.cell(r, c).value for c in (1, 2, 3))
         if label:
             print(f"  {label:<48} {_fmt(value):>12} {unit or ''}")

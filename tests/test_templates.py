@@ -197,7 +197,7 @@ def test_batch_example_sweep(tmp_path):
         TPL / "plant_harmonics.xlsx",
         ROOT / "examples" / "cases_plant.csv",
         tmp_path,
-        collect=["bus_thd_pct", "res_order", "res_rule", "cap_i_rms", "verdict"],
+        collect=["bus_thd_pct", "res_order", "res_rule", "cap_i_duty", "cap_vpk_duty", "verdict"],
         progress=False,
     )
     assert (rep.done, rep.failed) == (12, 0)
@@ -208,6 +208,9 @@ def test_batch_example_sweep(tmp_path):
     for row in rows:
         # resonance order follows √(S_sc/Q_cap) in every case (rule of thumb, ±5 %)
         assert float(row["res_order"]) == pytest.approx(float(row["res_rule"]), rel=0.05)
+    for row in rows:  # duty ratios are positive numbers, the verdict is PASS or FAIL
+        assert float(row["cap_i_duty"]) > 0 and float(row["cap_vpk_duty"]) > 0
+        assert row["verdict"] in ("PASS", "FAIL")
     by = {r["case"]: float(r["res_order"]) for r in rows}
     # more capacitance lowers the resonance: h ∝ 1/√Q (rule of thumb)
     assert by["1 steps, 50 MVA"] / by["4 steps, 50 MVA"] == pytest.approx(2.0, rel=0.05)

@@ -474,6 +474,20 @@ def plant_harmonics(path: Path) -> None:
             "cap_i_rms",
             "",
         ),
+        (
+            "Capacitor RMS current / nominal",
+            "=INDEX(_xlfn.ANCHORARRAY(G48),4,4)",
+            "ratio",
+            "cap_i_duty",
+            "IEEE Std 18 limit 1.35",
+        ),
+        (
+            "Capacitor peak voltage / rated peak",
+            "=INDEX(_xlfn.ANCHORARRAY(G48),3,4)",
+            "ratio",
+            "cap_vpk_duty",
+            "IEEE Std 18 limit 1.20",
+        ),
     ]
     for k, (label, formula, unit, name, note) in enumerate(out):
         b.output(res, 5 + k, label, formula, unit, name, note)
