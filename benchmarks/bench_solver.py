@@ -72,7 +72,7 @@ def bench_ratio(n_nodes: int, n_freqs: int, repeat: int) -> None:
 
 def bench_latency(repeat: int) -> None:
     rng = np.random.default_rng(2)
-    parts = ladder(10, rng)[:31]  # header + 30 parts
+    parts = ladder(12, rng)[:31]  # header + 30 parts
     sources = [["name", "kind", "from", "to", "harmonic", "rms", "phase_deg"]]
     sources.append(["Vs", "V", "n0", "GND", 1, 230.0, 0.0])
     for h in (5, 7, 11, 13, 17, 19, 23, 25, 29):
