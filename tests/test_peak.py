@@ -28,7 +28,7 @@ def test_incommensurate_tones_have_no_common_period():
 
 
 def test_peak_of_aligned_cosines_is_the_sum():
-    # cos θ + 0.5 cos 3θ has its maximum 1.5 at θ = 0 (by inspection)
+    # 0.25 + cos θ + 0.5 cos 3θ: every term peaks at θ = 0, so max = 1.75 (closed form)
     pk = true_peak(np.array([0.0, 50.0, 150.0]), np.array([0.25, 1.0, 0.5]))
     assert pk.method == "exact"
     assert pk.value == pytest.approx(1.75, rel=1e-13)

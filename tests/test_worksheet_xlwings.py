@@ -325,8 +325,7 @@ def test_optional_arguments_are_declared_optional(udf, vba):
             name = a.removeprefix("Optional ")
             optional = params[name].default is not inspect.Parameter.empty
             assert a.startswith("Optional ") == optional, (fname, a)
-            if optional:  # once one is optional, every later one must be too (VBA rule)
-                pass
+        # once one is optional, every later one must be too (VBA rule)
         flags = [a.startswith("Optional ") for a in args]
         assert flags == sorted(flags), fname
 

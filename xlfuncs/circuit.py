@@ -17,7 +17,7 @@ import numpy as np
 from .errors import InputError, TableError
 from .tables import Options, PartRow, SourceRow, read_options, read_parts, read_sources
 
-__all__ = ["Circuit", "Source", "merge_frequencies"]
+__all__ = ["Circuit", "Source", "group_frequencies", "merge_frequencies"]
 
 # relative tolerance under which two tone frequencies are the same frequency
 FREQ_RTOL = 1e-9
@@ -35,16 +35,26 @@ class Source:
     tones: tuple[tuple[float, complex], ...]
 
 
+def group_frequencies(freqs: Sequence[float]) -> tuple[np.ndarray, np.ndarray]:
+    """``(unique, group)``: sorted distinct frequencies, and for each input the index of
+    its frequency in ``unique``. Neighbours (in sorted order) within a relative 1e-9 are
+    one frequency; the group takes its lowest member's value."""
+    arr = np.asarray(freqs, dtype=float).reshape(-1)
+    if arr.size == 0:
+        return arr, np.zeros(0, dtype=int)
+    order = np.argsort(arr, kind="stable")
+    s = arr[order]
+    scale = np.maximum(np.maximum(np.abs(s[1:]), np.abs(s[:-1])), 1e-300)
+    starts = np.concatenate([[True], np.abs(np.diff(s)) > FREQ_RTOL * scale])
+    gid_sorted = np.cumsum(starts) - 1
+    group = np.empty(arr.size, dtype=int)
+    group[order] = gid_sorted
+    return s[starts], group
+
+
 def merge_frequencies(freqs: Sequence[float]) -> np.ndarray:
     """Sorted unique frequencies; values within a relative 1e-9 count as one."""
-    arr = np.sort(np.asarray(freqs, dtype=float))
-    if arr.size == 0:
-        return arr
-    keep = [arr[0]]
-    for f in arr[1:]:
-        if abs(f - keep[-1]) > FREQ_RTOL * max(abs(f), abs(keep[-1]), 1e-300):
-            keep.append(f)
-    return np.array(keep)
+    return group_frequencies(freqs)[0]
 
 
 @dataclass(frozen=True)
@@ -106,11 +116,10 @@ class Circuit:
         srcs: list[Source] = []
         for rows in grouped.values():
             r0 = rows[0]
-            tones: dict[float, complex] = {}
-            for r in rows:
-                # tones of one source at one frequency add as phasors
-                fkey = _match_key(tones, r.freq_hz)
-                tones[fkey] = tones.get(fkey, 0j) + r.phasor
+            # tones of one source at one frequency add as phasors
+            uniq, group = group_frequencies([r.freq_hz for r in rows])
+            sums = np.zeros(uniq.size, dtype=complex)
+            np.add.at(sums, group, [r.phasor for r in rows])
             srcs.append(
                 Source(
                     name=r0.name,
@@ -118,7 +127,7 @@ class Circuit:
                     from_node=node(r0.from_node) or "",
                     to_node=node(r0.to_node) or "",
                     row=r0.row,
-                    tones=tuple(sorted(tones.items())),
+                    tones=tuple(zip(uniq.tolist(), sums.tolist(), strict=True)),
                 )
             )
         # names: parts and sources share one namespace
@@ -241,13 +250,6 @@ class Circuit:
 
     def __hash__(self) -> int:  # numpy arrays are unhashable; identity is enough
         return id(self)
-
-
-def _match_key(existing: dict[float, complex], f: float) -> float:
-    for k in existing:
-        if abs(k - f) <= FREQ_RTOL * max(abs(k), abs(f), 1e-300):
-            return k
-    return f
 
 
 def _replace_nodes(p: PartRow, node: Any) -> PartRow:

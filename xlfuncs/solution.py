@@ -97,8 +97,8 @@ def true_peak(freqs_hz: np.ndarray, phasors: np.ndarray) -> PeakResult:
     nmax = int(orders.max()) if orders.size else 0
     m = 1 << max(6, math.ceil(math.log2(16 * (nmax + 1))))
     spec = np.zeros((m // 2 + 1, xf.shape[1]), dtype=complex)
-    for i, h in enumerate(orders):
-        spec[h] += xf[i] * (m if h == 0 else m / 2)
+    weight = np.where(orders == 0, m, m / 2)[:, None]
+    np.add.at(spec, orders, xf * weight)
     y = np.fft.irfft(spec, n=m, axis=0)  # (m, K) samples over one period
     ay = np.abs(y)
     # candidates: the top few samples per signal, refined by Newton on dx/dθ = 0

@@ -109,7 +109,7 @@ class System:
         jw = 2j * np.pi * f
         is_jw = self.basis == B_JW
         out[:, is_jw] = jw[:, None]
-        scaled = (self.basis == B_INV_SCALE) | (self.basis == B_SCALE)
+        scaled = self._scaled
         if scaled.any():
             f1 = self.circuit.options.fundamental_hz
             if f1 is None:
@@ -130,14 +130,11 @@ class System:
         n = self.n
         w = 2 * np.pi * f
         if th.ndim == 1:
-            const = self.basis == B_CONST
-            jw = self.basis == B_JW
-            a0 = _dense(n, self.rows, self.cols, self.signs * th[self.param], const[self.param])
-            a1 = _dense(n, self.rows, self.cols, self.signs * th[self.param], jw[self.param])
+            a0, a1 = self.pencil(th)
             out = np.empty((f.size, n, n), dtype=complex)
             out.real[...] = a0
             np.multiply(w[:, None, None], a1, out=out.imag)
-            scaled = (self.basis == B_INV_SCALE) | (self.basis == B_SCALE)
+            scaled = self._scaled
             if scaled.any():
                 ph = self.phi(f)
                 for p in np.flatnonzero(scaled):
@@ -212,7 +209,7 @@ class System:
         r1 = np.zeros(self.n)
         np.add.at(r0, self.rows[const], vals[const])
         np.add.at(r1, self.rows[jw], vals[jw])
-        scaled = np.flatnonzero((self.basis == B_INV_SCALE) | (self.basis == B_SCALE))
+        scaled = np.flatnonzero(self._scaled)
         rs = np.zeros((scaled.size, self.n))
         for k, p in enumerate(scaled):
             sel = self.param == p
@@ -317,18 +314,26 @@ class System:
     @property
     def has_frequency_law(self) -> bool:
         """True when some resistor follows R(f) = R·(f/f1)^x (A(ω) is then not affine)."""
-        return bool(np.any((self.basis == B_INV_SCALE) | (self.basis == B_SCALE)))
+        return bool(self._scaled.any())
 
-    def pencil(self) -> tuple[np.ndarray, np.ndarray]:
-        """``(A0, A1)`` with A(ω) = A0 + jω·A1 (nominal values; no resistance law)."""
+    @cached_property
+    def _scaled(self) -> np.ndarray:
+        """Mask of the parameters that follow a resistance law."""
+        return (self.basis == B_INV_SCALE) | (self.basis == B_SCALE)
+
+    def pencil(self, theta: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
+        """``(A0, A1)``: the constant and the jω parts of A(ω); resistors that follow a
+        resistance law are left out of both (see :attr:`has_frequency_law`)."""
+        th = self.theta if theta is None else theta
         n = self.n
-        a0 = np.zeros((n, n))
-        a1 = np.zeros((n, n))
-        vals = self.signs * self.theta[self.param]
-        const = self.basis[self.param] == B_CONST
-        np.add.at(a0, (self.rows[const], self.cols[const]), vals[const])
-        np.add.at(a1, (self.rows[~const], self.cols[~const]), vals[~const])
-        return a0, a1
+        vals = self.signs * th[self.param]
+        out = []
+        for basis in (B_CONST, B_JW):
+            sel = self.basis[self.param] == basis
+            m = np.zeros((n, n))
+            np.add.at(m, (self.rows[sel], self.cols[sel]), vals[sel])
+            out.append(m)
+        return out[0], out[1]
 
     @cached_property
     def _schur(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
@@ -430,14 +435,6 @@ def _raise_singular(
                 hint="add realistic losses (series/parallel resistance) or check the gains",
             )
     raise SingularNetworkError("the equations have no unique solution")  # pragma: no cover
-
-
-def _dense(
-    n: int, rows: np.ndarray, cols: np.ndarray, vals: np.ndarray, sel: np.ndarray
-) -> np.ndarray:
-    m = np.zeros((n, n))
-    np.add.at(m, (rows[sel], cols[sel]), vals[sel])
-    return m
 
 
 # ------------------------------------------------------------------------------ building

@@ -106,12 +106,14 @@ def find_resonances(
     grid = np.geomspace(f_start, f_stop, points)
     mag = np.abs(_z(system, idx, grid))
     step = grid[1] / grid[0]
-    brackets: list[tuple[float, float, int]] = []  # (lo, hi, +1 max / -1 min)
-    for i in range(1, points - 1):
-        if mag[i] > mag[i - 1] and mag[i] >= mag[i + 1]:
-            brackets.append((grid[i - 1], grid[i + 1], 1))
-        elif mag[i] < mag[i - 1] and mag[i] <= mag[i + 1]:
-            brackets.append((grid[i - 1], grid[i + 1], -1))
+    mid, left, right = mag[1:-1], mag[:-2], mag[2:]
+    ext = np.where(
+        (mid > left) & (mid >= right), 1, np.where((mid < left) & (mid <= right), -1, 0)
+    )
+    at = np.flatnonzero(ext) + 1
+    brackets: list[tuple[float, float, int]] = [  # (lo, hi, +1 max / -1 min)
+        (grid[i - 1], grid[i + 1], int(ext[i - 1])) for i in at
+    ]
     pole_f, zero_f = _pencil_seeds(system, idx, f_start, f_stop)
     for fs, sgn in [(f, 1) for f in pole_f] + [(f, -1) for f in zero_f]:
         brackets.append((max(f_start, fs / step), min(f_stop, fs * step), sgn))

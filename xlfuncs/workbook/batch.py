@@ -229,6 +229,11 @@ def _keep_only_finished(summary: Path, finished: set[str]) -> None:
     os.replace(tmp, summary)
 
 
+def _number_or_text(cell: str) -> Any:
+    v = parse_value(cell)
+    return v if isinstance(v, float) else cell
+
+
 def _write_xlsx(csv_path: Path, xlsx_path: Path) -> None:
     import openpyxl
 
@@ -237,9 +242,7 @@ def _write_xlsx(csv_path: Path, xlsx_path: Path) -> None:
     ws.title = "summary"
     with csv_path.open(newline="", encoding="utf-8") as fh:
         for k, row in enumerate(csv.reader(fh)):
-            ws.append(
-                [parse_value(c) if k and isinstance(parse_value(c), float) else c for c in row]
-            )
+            ws.append([_number_or_text(c) if k else c for c in row])
     ws.freeze_panes = "A2"
     fd, tmp = tempfile.mkstemp(prefix=".summary.", suffix=".xlsx", dir=xlsx_path.parent)
     os.close(fd)
