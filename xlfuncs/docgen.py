@@ -9,7 +9,7 @@ from __future__ import annotations
 import sys
 from pathlib import Path
 
-from .worksheet import FUNCTIONS
+from .functions import FUNCTIONS
 
 HEADER = """# Worksheet function reference
 

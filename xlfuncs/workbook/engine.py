@@ -10,7 +10,6 @@ engine, ours by our Python code, dynamic arrays spilling natively (``A1#`` inclu
 from __future__ import annotations
 
 import datetime as dt
-import inspect
 import math
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -109,16 +108,11 @@ def _cells(value: Any) -> int:
 
 def worksheet_functions() -> dict[str, tuple[Callable[..., Any], int, int, tuple[bool, ...]]]:
     """Our ``CKT_`` functions: name → (callable, min args, max args, which args are ranges)."""
-    from .. import worksheet
+    from ..functions import FUNCTIONS
 
-    out = {}
-    for name in worksheet.FUNCTIONS:
-        fn = getattr(worksheet, name)
-        params = list(inspect.signature(fn).parameters.values())
-        required = sum(p.default is inspect.Parameter.empty for p in params)
-        ranges = tuple(worksheet._ARGS[p.name][1].get("ndim") == 2 for p in params)
-        out[name] = (fn, required, len(params), ranges)
-    return out
+    return {
+        name: (fd.call, fd.required, len(fd.args), fd.ranges) for name, fd in FUNCTIONS.items()
+    }
 
 
 def _adapt(
