@@ -41,6 +41,7 @@ __all__ = ["Circuit", "Source", "closest_name", "group_frequencies", "merge_freq
 
 # relative tolerance under which two tone frequencies are the same frequency
 FREQ_RTOL = 1e-9
+_SMALL = 64  # below this many frequencies, grouping runs in plain Python
 _PREFIXED = re.compile(r"\s*(part|source|node)\s*:\s*(.+?)\s*$", re.IGNORECASE)
 _LIST_CHARS = 48  # characters of names listed per kind in a "did you mean" message
 
@@ -61,6 +62,8 @@ def group_frequencies(freqs: Sequence[float]) -> tuple[np.ndarray, np.ndarray]:
     """``(unique, group)``: sorted distinct frequencies, and for each input the index of
     its frequency in ``unique``. Neighbours (in sorted order) within a relative 1e-9 are
     one frequency; the group takes its lowest member's value."""
+    if isinstance(freqs, (list, tuple)) and len(freqs) <= _SMALL:
+        return _group_small([float(f) for f in freqs])
     arr = np.asarray(freqs, dtype=float).reshape(-1)
     if arr.size == 0:
         return arr, np.zeros(0, dtype=int)
@@ -72,6 +75,21 @@ def group_frequencies(freqs: Sequence[float]) -> tuple[np.ndarray, np.ndarray]:
     group = np.empty(arr.size, dtype=int)
     group[order] = gid_sorted
     return s[starts], group
+
+
+def _group_small(vals: list[float]) -> tuple[np.ndarray, np.ndarray]:
+    """:func:`group_frequencies` for a short list, without numpy's per-call overhead."""
+    order = sorted(range(len(vals)), key=vals.__getitem__)
+    uniq: list[float] = []
+    group = [0] * len(vals)
+    prev = 0.0
+    for i in order:
+        v = vals[i]
+        if not uniq or abs(v - prev) > FREQ_RTOL * max(abs(v), abs(prev), 1e-300):
+            uniq.append(v)
+        group[i] = len(uniq) - 1
+        prev = v
+    return np.array(uniq, dtype=float), np.array(group, dtype=int)
 
 
 def merge_frequencies(freqs: Sequence[float]) -> np.ndarray:
@@ -304,13 +322,13 @@ class _Spelling:
         self.display: dict[str, str] = {self.gkey: ground}
 
     def add(self, name: str) -> None:
-        self.display.setdefault(name_key(name), name)
+        self.display.setdefault(name.casefold(), name)  # name_key, inlined (hot path)
 
     def get(self, name: str | None) -> str | None:
         """Display spelling of a node that exists, else None."""
         if name is None:
             return None
-        return self.display.get(name_key(name))
+        return self.display.get(name.casefold())
 
     def nodes(self) -> tuple[str, ...]:
         return tuple(v for k, v in self.display.items() if k != self.gkey)
@@ -363,12 +381,18 @@ def _resolve_part(
 ) -> PartRow:
     """``p`` with every reference resolved and respelled; errors name its row."""
     changes: dict[str, Any] = {}
-    for field in ("from_node", "to_node", "sec_from", "sec_to"):
-        n = getattr(p, field)
-        if n is not None:
-            d = spell.get(n)
-            if d != n:
-                changes[field] = d
+    display = spell.display
+    for field, end in (("from_node", p.from_node), ("to_node", p.to_node)):
+        if end is not None:
+            shown = display[end.casefold()]
+            if shown != end:
+                changes[field] = shown
+    if p.kind == "XFMR":
+        for field in ("sec_from", "sec_to"):
+            winding = getattr(p, field)
+            shown_w = spell.get(winding)
+            if shown_w != winding:
+                changes[field] = shown_w
     if p.kind in ("VCVS", "VCCS"):
         for field, col in (("ctrl_from", "ctrl_from"), ("ctrl_to", "ctrl_to")):
             n = getattr(p, field)

@@ -68,12 +68,15 @@ def common_period(freqs_hz: np.ndarray) -> tuple[float, np.ndarray] | None:
         return 1.0, np.zeros(f.shape, dtype=int)
     fmin = nz.min()
     ratio = nz / fmin
-    q = np.arange(1, _MAX_DENOMINATOR + 1)[:, None]
-    scaled = q * ratio[None, :]
-    ok = np.all(np.abs(scaled - np.rint(scaled)) <= _COMMENSURATE_RTOL * scaled, axis=1)
-    if not ok.any():
-        return None
-    qbest = int(q[np.argmax(ok), 0])
+    if np.all(np.abs(ratio - np.rint(ratio)) <= _COMMENSURATE_RTOL * ratio):
+        qbest = 1  # the common case: harmonics of the lowest tone
+    else:
+        q = np.arange(2, _MAX_DENOMINATOR + 1)[:, None]
+        scaled = q * ratio[None, :]
+        ok = np.all(np.abs(scaled - np.rint(scaled)) <= _COMMENSURATE_RTOL * scaled, axis=1)
+        if not ok.any():
+            return None
+        qbest = int(q[np.argmax(ok), 0])
     base = fmin / qbest
     orders = np.rint(f / base).astype(np.int64)
     if orders.max() > _MAX_ORDER_EXACT:
@@ -326,29 +329,39 @@ def _extrema_fft(h: np.ndarray, x: np.ndarray, m: int) -> _Extrema:
         y = np.fft.irfft(spec, n=m, axis=-1)  # (n, m): g at θ_i = iδ
         spec *= ramp
         dy = np.fft.irfft(spec, n=m, axis=-1)  # g'
+        spec *= ramp
+        d2y = np.fft.irfft(spec, n=m, axis=-1)  # g''
         del spec
         i_hi, i_lo = y.argmax(axis=1), y.argmin(axis=1)
         top, bottom = y[rows, i_hi], -y[rows, i_lo]
         dd = d2[c0:c1]
+        slack = dd * delta**2 / 8
         slope_ok = np.abs(dy) <= (dd * delta / 2)[:, None]
-        cand_hi = (y >= (top - dd * delta**2 / 8)[:, None]) & slope_ok
-        cand_lo = (y <= -(bottom - dd * delta**2 / 8)[:, None]) & slope_ok
-        del y, dy, slope_ok
-        best = {1.0: (top, i_hi * delta), -1.0: (bottom, i_lo * delta)}
-        for sign, cand in ((1.0, cand_hi), (-1.0, cand_lo)):
-            bv, bt = best[sign]
-            ck, ci = np.nonzero(cand)
-            for b0 in range(0, ci.size, _REFINE_BATCH):
-                bi, bk = ci[b0 : b0 + _REFINE_BATCH], ck[b0 : b0 + _REFINE_BATCH]
-                val, th = _refine(h, xc[:, bk], bi * delta, delta / 2, sign)
-                order = np.lexsort((val, bk))  # by signal, then by value
-                sel = order[_group_last(bk[order])]  # the best candidate of each signal
-                tgt = bk[sel]
-                upd = val[sel] > bv[tgt]
-                bv[tgt[upd]] = val[sel][upd]
-                bt[tgt[upd]] = th[sel][upd]
-        vmax[c0:c1], tmax[c0:c1] = best[1.0]
-        vmin[c0:c1], tmin[c0:c1] = best[-1.0]
+        ck_hi, ci_hi = np.nonzero((y >= (top - slack)[:, None]) & slope_ok)
+        ck_lo, ci_lo = np.nonzero((y <= (slack - bottom)[:, None]) & slope_ok)
+        ck = np.concatenate([ck_hi, ck_lo])
+        ci = np.concatenate([ci_hi, ci_lo])
+        sign = np.concatenate([np.ones(ck_hi.size), -np.ones(ck_lo.size)])
+        # one Newton step on the samples: a start close to each candidate's extremum
+        g1s, g2s = dy[ck, ci] * sign, d2y[ck, ci] * sign
+        jump = np.where(g2s < 0, -g1s / np.where(g2s < 0, g2s, -1.0), 0.0)
+        start = ci * delta + np.clip(jump, -delta / 2, delta / 2)
+        del y, dy, d2y, slope_ok
+        best = np.concatenate([top, bottom])  # per (sign, signal): max of ±g
+        best_t = np.concatenate([i_hi, i_lo]) * delta
+        slot = np.where(sign > 0, ck, ck + n)
+        for b0 in range(0, ci.size, _REFINE_BATCH):
+            sl = slice(b0, b0 + _REFINE_BATCH)
+            val, th = _refine(h, xc[:, ck[sl]], ci[sl] * delta, delta / 2, sign[sl], start[sl])
+            bs = slot[sl]
+            order = np.lexsort((val, bs))  # by slot, then by value
+            sel = order[_group_last(bs[order])]  # the best candidate of each slot
+            tgt = bs[sel]
+            upd = val[sel] > best[tgt]
+            best[tgt[upd]] = val[sel][upd]
+            best_t[tgt[upd]] = th[sel][upd]
+        vmax[c0:c1], vmin[c0:c1] = best[:n], best[n:]
+        tmax[c0:c1], tmin[c0:c1] = best_t[:n], best_t[n:]
     return _Extrema(vmax, tmax, vmax, vmin, tmin, vmin, True)
 
 
@@ -390,47 +403,79 @@ def _extrema_sampled(h: np.ndarray, x: np.ndarray, m: int) -> _Extrema:
 
 
 def _refine(
-    h: np.ndarray, x: np.ndarray, theta0: np.ndarray, half: float, sign: float
+    h: np.ndarray,
+    x: np.ndarray,
+    theta0: np.ndarray,
+    half: float,
+    sign: Any,
+    start: np.ndarray | None = None,
 ) -> tuple[np.ndarray, np.ndarray]:
     """Maximise sign·g over [θ0 − half, θ0 + half] for each column of ``x`` (one per
-    candidate): safeguarded Newton steps from three starts; returns (value, θ)."""
-    c = theta0.size
-    if c == 0:
+    candidate; ``sign`` ±1, scalar or per candidate); returns (value, θ).
+
+    Safeguarded Newton steps from ``start`` (default θ0). Where the result is not proven
+    to be the interval's maximum — g'' + Σh³|X|·2·half < 0 there makes g concave on the
+    whole interval — the search is repeated from three starts and the best kept."""
+    if theta0.size == 0:
         return np.zeros(0), np.zeros(0)
-    starts = np.array([0.0, -2.0 / 3.0, 2.0 / 3.0]) * half
-    th = (theta0[None, :] + starts[:, None]).reshape(-1)
-    lo = np.tile(theta0 - half, 3)
-    hi = np.tile(theta0 + half, 3)
-    xt = np.tile(x.T, (3, 1)) * sign  # (3C, F): maximise Re Σ xt e^{jhθ}
-    h2 = h * h
+    xs = x.T * np.reshape(sign, (-1, 1))  # (C, F): maximise Re Σ xs e^{jhθ}
+    lo, hi = theta0 - half, theta0 + half
+    th0 = theta0 if start is None else start
+    val, th, g2 = _newton(h, xs, th0, lo, hi, half)
+    d3 = (np.abs(xs) * h**3).sum(axis=1)
+    doubt = np.flatnonzero(g2 + d3 * 2 * half >= 0)
+    if doubt.size:
+        c = doubt.size
+        offs = np.array([0.0, -2.0 / 3.0, 2.0 / 3.0]) * half
+        ths = (theta0[doubt][None, :] + offs[:, None]).reshape(-1)
+        v3, t3, _g = _newton(
+            h,
+            np.tile(xs[doubt], (3, 1)),
+            ths,
+            np.tile(lo[doubt], 3),
+            np.tile(hi[doubt], 3),
+            half,
+        )
+        v3, t3 = v3.reshape(3, c), t3.reshape(3, c)
+        pick = v3.argmax(axis=0)
+        cols = np.arange(c)
+        better = v3[pick, cols] > val[doubt]
+        val[doubt[better]] = v3[pick, cols][better]
+        th[doubt[better]] = t3[pick, cols][better]
+    return val, th
+
+
+def _newton(
+    h: np.ndarray,
+    xs: np.ndarray,
+    th: np.ndarray,
+    lo: np.ndarray,
+    hi: np.ndarray,
+    half: float,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Safeguarded Newton ascent of g(θ) = Re Σ xs e^{jhθ} (rows of ``xs``) within
+    [lo, hi]; an ascent step where g is not concave. Returns the best value met, its θ
+    and g'' there."""
+    w_re = np.stack([np.ones_like(h), -h * h], axis=1)  # g and g'' from Re
+    w_im = -h  # g' from Im
     best_v = np.full(th.size, -np.inf)
     best_t = th.copy()
-    for it in range(13):
-        z = xt * np.exp(1j * np.multiply.outer(th, h))
-        g = z.real.sum(axis=1)
+    best_g2 = np.zeros(th.size)
+    for _ in range(12):
+        z = xs * np.exp(1j * np.multiply.outer(th, h))
+        g0g2 = z.real @ w_re
+        g, g2 = g0g2[:, 0], g0g2[:, 1]
         upd = g > best_v
-        best_v[upd] = g[upd]
-        best_t[upd] = th[upd]
-        if it == 12:
-            break
-        g1 = -(z.imag @ h)
-        g2 = -(z.real @ h2)
+        best_v[upd], best_t[upd], best_g2[upd] = g[upd], th[upd], g2[upd]
+        g1 = z.imag @ w_im
         concave = g2 < 0
         step = np.where(concave, -g1 / np.where(concave, g2, -1.0), np.sign(g1) * half / 4)
         new = np.clip(th + step, lo, hi)
-        moved = np.abs(new - th) > 1e-15 * (1.0 + np.abs(th))
-        th = new
-        if not moved.any():
-            z = xt * np.exp(1j * np.multiply.outer(th, h))
-            g = z.real.sum(axis=1)
-            upd = g > best_v
-            best_v[upd] = g[upd]
-            best_t[upd] = th[upd]
+        # a step below 1e-10 rad changes g by ~g''·1e-20 at a maximum: converged
+        if np.abs(new - th).max() <= 1e-10:
             break
-    bv = best_v.reshape(3, c)
-    pick = bv.argmax(axis=0)
-    cols = np.arange(c)
-    return bv[pick, cols], best_t.reshape(3, c)[pick, cols]
+        th = new
+    return best_v, best_t, best_g2
 
 
 def _reached(
@@ -768,7 +813,23 @@ class Solution:
 
     def voltage(self, target: str) -> Spectrum:
         """Voltage of a node (against the reference) or of a part/source (from − to)."""
+        return self._voltage(*self._resolve(target))
+
+    def current(self, target: str) -> Spectrum:
+        """Current through a part or source, flowing from its ``from`` to its ``to``."""
+        return self._current(target, *self._resolve(target))
+
+    def signal(self, target: str, quantity: str | None = None) -> Spectrum:
+        """``quantity`` ``"V"`` or ``"I"``; default: current for a part, voltage for a node."""
         what, obj = self._resolve(target)
+        q = (quantity or ("V" if what == "node" else "I")).strip().upper()
+        if q == "V":
+            return self._voltage(what, obj)
+        if q == "I":
+            return self._current(target, what, obj)
+        raise InputError("argument", None, "quantity", quantity, "expected V or I")
+
+    def _voltage(self, what: str, obj: Any) -> Spectrum:
         if what == "node":
             if obj == self.circuit.ground:
                 return self.spectrum(np.zeros(self.freqs_hz.size, complex), f"V({obj})")
@@ -776,9 +837,7 @@ class Solution:
             return self.spectrum(self.node_voltages[:, i], f"V({obj})")
         return self._element(obj, "V")
 
-    def current(self, target: str) -> Spectrum:
-        """Current through a part or source, flowing from its ``from`` to its ``to``."""
-        what, obj = self._resolve(target)
+    def _current(self, target: str, what: str, obj: Any) -> Spectrum:
         if what == "node":
             raise InputError(
                 "argument",
@@ -788,16 +847,6 @@ class Solution:
                 f"{target!r} is a node; a current needs a part or source name",
             )
         return self._element(obj, "I")
-
-    def signal(self, target: str, quantity: str | None = None) -> Spectrum:
-        """``quantity`` ``"V"`` or ``"I"``; default: current for a part, voltage for a node."""
-        what, _obj = self._resolve(target)
-        q = (quantity or ("V" if what == "node" else "I")).strip().upper()
-        if q == "V":
-            return self.voltage(target)
-        if q == "I":
-            return self.current(target)
-        raise InputError("argument", None, "quantity", quantity, "expected V or I")
 
     def _resolve(self, target: str) -> tuple[str, Any]:
         if not isinstance(target, str) or not target.strip():

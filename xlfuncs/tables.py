@@ -282,18 +282,18 @@ class _Table:
         items = list(self.col.items())
         self.rows: list[tuple[int, dict[str, Cell]]] = []
         for i, r in enumerate(rows[1:]):
-            if all(_is_blank(c) for c in r):
-                continue
             cells: dict[str, Cell] = {}
             width = len(r)
             for canon, idx in items:
                 c = r[idx] if idx < width else None
                 if c is None:
                     continue
-                if isinstance(c, str):
-                    if not c.strip():
-                        continue
-                    if c[:1] == "#" and _SHEET_ERROR.fullmatch(c.strip().upper()):
+                if type(c) is str:
+                    if not c or c[0].isspace() or c[-1].isspace():
+                        c = c.strip()
+                        if not c:
+                            continue
+                    if c[0] == "#" and _SHEET_ERROR.fullmatch(c.upper()):
                         raise InputError(
                             table,
                             i + 2,
@@ -303,7 +303,8 @@ class _Table:
                             "value that feeds it",
                         )
                 cells[canon] = c
-            self.rows.append((i + 2, cells))
+            if cells or not _row_blank(r):
+                self.rows.append((i + 2, cells))
         if not self.rows:
             raise TableError(table, "no rows below the header")
 
@@ -312,13 +313,22 @@ class _Table:
         return TableError(self.table, f"missing {what} (columns found: {found})")
 
     def require(self, *names: str) -> None:
-        missing = [n for n in names if n not in self.col]
+        col = self.col
+        if all(n in col for n in names):
+            return
+        missing = [n for n in names if n not in col]
         if missing:
             plural = "s" if len(missing) > 1 else ""
             raise self.missing(f"column{plural} {', '.join(missing)}")
 
 
+def _row_blank(r: Sequence[Cell]) -> bool:
+    return all(_is_blank(c) for c in r)
+
+
 def _text(cell: Cell) -> str:
+    if type(cell) is str:
+        return cell.strip()
     if isinstance(cell, float) and cell.is_integer():
         return str(int(cell))
     return str(cell).strip()
@@ -326,6 +336,8 @@ def _text(cell: Cell) -> str:
 
 def _name(table: str, rownum: int, cells: dict[str, Cell], column: str, what: str) -> str:
     cell = cells.get(column)
+    if type(cell) is str:  # the common case: cells are stripped already
+        return cell
     if cell is None:
         raise InputError(table, rownum, column, expected=f"missing {what}")
     if isinstance(cell, bool) or (isinstance(cell, float) and not math.isfinite(cell)):
@@ -338,7 +350,7 @@ def _two_ends(
 ) -> tuple[str, str]:
     a = _name(table, rownum, cells, a_col, what)
     b = _name(table, rownum, cells, b_col, what)
-    if name_key(a) == name_key(b):
+    if a == b or a.casefold() == b.casefold():
         same = f"{a!r}" if a == b else f"{a!r} (names ignore letter case)"
         raise InputError(
             table, rownum, b_col, b, f"both ends on node {same}; expected two different nodes"
