@@ -64,6 +64,6 @@ def num_arg(value: Any, column: str, default: float | None = None) -> float:
     return float(value)
 
 
-def blank(value: float) -> Any:
+def blank(value: float | None) -> Any:
     """A cell value: the number, or empty text where there is none (NaN)."""
-    return "" if not math.isfinite(value) else value
+    return "" if value is None or not math.isfinite(value) else value
