@@ -276,6 +276,7 @@ def test_garbage_in_each_input_never_reads_pass(name):
     trials = [(i, "two") for i in _inputs(t)]
     trials += [(i, bad) for i in _inputs(t) if i.name.endswith("steps")
                for bad in (-1, 2.5, "80 MVA")]  # fmt: skip
+    trials += [(Input("project", "Project", "DEMO — invented example"), "x" * 81)]
     for inp, bad in trials:
         sheet, r, c = pb.input_cell(inp.name)
         pb.engine.set_value(sheet, r, c, bad)

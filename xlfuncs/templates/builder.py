@@ -425,7 +425,7 @@ def _inputs(book: Book, page: Page) -> None:
     page.put(
         page.row,
         1,
-        '=COUNTIF(Inputs!$E$1:$E$300,"expects*")+COUNTIF(Cover!$C$1:$C$60,"expects*")',
+        '=COUNTIF(Inputs!$E$1:$E$300,"expects*")+COUNTIF(Cover!$D$1:$D$60,"expects*")',
         "calc",
         "int",
     )
@@ -485,7 +485,7 @@ def _table(book: Book, page: Page, t: Table, b: Binding, r0: int, note_at: int =
     page.header(r0, 0, cols)
     note = max(note_at, len(cols))
     if any(x.note for x in t.rows):
-        page.header(r0, note, (Col("note", width=40),))
+        page.header(r0, note, (Col("note", width=50),))
     if t.excel and b is book.main:
         head = book.fmt("head")
         page.ws.add_table(
@@ -536,7 +536,7 @@ def _block(book: Book, page: Page, blk: Block, b: Binding, r0: int, c0: int = 0)
 
 
 def _network(book: Book, page: Page) -> None:
-    page.head(f"{book.t.title} — network (per phase; values in SI units)")
+    page.head(f"{book.t.title} — network (values in SI units)")
     wide = max(len(t.cols) + bool(t.si_col) for t in book.t.network)
     for t in book.t.network:
         page.title(t.title)
@@ -919,7 +919,7 @@ def _notes(book: Book, page: Page) -> None:
 
 
 TITLE_BLOCK = (
-    ("project", "Project", "DEMO — invented plant"),
+    ("project", "Project", "DEMO — invented example"),
     ("doc_no", "Document number", "XLF-DEMO-001"),
     ("revision", "Revision", "A"),
     ("doc_date", "Date", "2026-01-01"),

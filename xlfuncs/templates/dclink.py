@@ -74,7 +74,7 @@ RESULTS = (
     Section("Key results", (
         Result("v_out_dc", "Output DC voltage", f'=CKT_DC({ARGS},"OUT","V")', "V", "3"),
         Result("v_ripple_pp", "Output ripple, peak-to-peak", "=" + spilled("wave_v", "time_s", f"MAX({WAVE})-MIN({WAVE})"), "V",
-               "sig", "from the waveform"),
+               "4", "from the waveform"),
         Result("ripple_pct", "Output ripple / DC", "=100*v_ripple_pp/v_out_dc", "%", "3"),
         Result("cap_i_rms", "Capacitor ripple current, RMS", f'=CKT_RMS({ARGS},"C_f","I")', "A",
                "3", "the capacitor carries no DC"),
