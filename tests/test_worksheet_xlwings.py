@@ -43,6 +43,17 @@ EXPECTED = [  # the names the product promises (issue: worksheet functions)
     "CKT_DRIVE",
     "CKT_TOLERANCE",
     "CKT_IMPEDANCE",
+    # equipment duty
+    "CKT_POWERS",
+    "CKT_XFMR_DERATE",
+    "CKT_TUNED_FILTER",
+    "CKT_HIGHPASS_FILTER",
+    "CKT_FILTER_DRIFT",
+    "CKT_FILTER_RESONANCE",
+    "CKT_FILTER_RATING",
+    "CKT_CAP_STEP",
+    "CKT_CABLE_RAC",
+    "CKT_CABLE_LOSS",
 ]
 
 # VBA keywords that cannot name an argument. [MS-VBAL] VBA Language Specification,
