@@ -315,3 +315,18 @@ def test_command_line(tmp_path, capsys):
     assert main(step) == 0
     lines = capsys.readouterr().out.splitlines()
     assert next(ln for ln in lines if ln.startswith("smallest")).split()[1] == "150"
+
+
+def test_error_cells_are_refused_not_read_as_blank():
+    # through xlwings an Excel error cell would arrive as None (a blank) unless read with
+    # err_to_str; an optional argument must not fall back to its default because of it
+    from xlwings_harness import COM_ERRORS, MISSING, call, xlwings_udfs
+
+    with xlwings_udfs() as udf:
+        ok = call(udf, "CKT_FILTER_DRIFT", 4.7, 50.0, 0.0, 0.1, 0.03, MISSING, MISSING)
+        bad = call(udf, "CKT_FILTER_DRIFT", 4.7, 50.0, 0.0, 0.1, 0.03, COM_ERRORS["#N/A"], 30.0)
+        inj = ((5.0, COM_ERRORS["#DIV/0!"]),)
+        bad_range = call(udf, "CKT_CAP_STEP", 50.0, 3.0, 480.0, 60.0, 3.0, 30.0, 10.0, inj, 0.3)
+    assert ok[1] == ["order_nominal", 4.7, "h"]
+    assert bad == [["ERROR: argument, column c_tempco_ppm: '#N/A' — expected a number"]]
+    assert bad_range == [["ERROR: injected row 1, column 2: '#DIV/0!' — expected a number"]]

@@ -339,3 +339,23 @@ def test_command_line(tmp_path, capsys):
     assert main([*args[:-1], "nope"]) == 2
     err = capsys.readouterr().err.strip()
     assert err.startswith("xlfuncs: error:") and "nope" in err and "\n" not in err
+
+
+def test_powers_through_the_xlwings_call_path():
+    from xlwings_harness import MISSING, call, xlwings_udfs
+
+    parts = (("name", "kind", "from", "to", "value"), ("R1", "R", "a", "GND", 2.0))
+    src = (
+        ("name", "kind", "from", "to", "harmonic", "rms", "phase_deg"),
+        ("V", "V", "a", "GND", 1.0, 230.0, 0.0),
+        ("V", "V", "a", "GND", 3.0, 23.0, 0.0),
+    )
+    opts = (("fundamental_hz", 50.0),)
+    with xlwings_udfs() as udf:
+        one_phase = call(udf, "CKT_POWERS", parts, src, "R1", opts, MISSING)
+        four_wire = call(udf, "CKT_POWERS", parts, src, "R1", opts, "3ph4w")
+        three_wire = call(udf, "CKT_POWERS", parts, src, "R1", opts, "3ph3w")
+    assert one_phase[1][:2] == ["P", pytest.approx((230**2 + 23**2) / 2, rel=1e-14)]
+    assert four_wire[1][1] == pytest.approx(3 * one_phase[1][1], rel=1e-14)
+    # the third harmonic is zero sequence: a three-wire item cannot carry it
+    assert three_wire[0][0].startswith("ERROR: argument, column wiring: '3ph3w'")

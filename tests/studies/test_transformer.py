@@ -164,3 +164,20 @@ def test_command_line(tmp_path, capsys):
         err
         == "xlfuncs: error: spectrum row 3, column pct: 'x' — expected a percentage of I1 (a number ≥ 0)"
     )
+
+
+def test_through_the_xlwings_call_path():
+    # Excel hands ranges over as tuples of rows; an error cell arrives as its COM code,
+    # which xlwings turns into its text; an omitted optional argument as MISSING
+    from xlwings_harness import COM_ERRORS, MISSING, call, xlwings_udfs
+
+    spec = (("order", "pct"), (1.0, 100.0), (5.0, 20.0), (None, None))
+    with xlwings_udfs() as udf:
+        out = call(udf, "CKT_XFMR_DERATE", spec, 0.1, MISSING)
+        assert out[1] == ["F_HL", pytest.approx(2 / 1.04, rel=1e-14)]
+        assert out[5] == ["P_LL_pu", ""]
+        bad = (*spec[:2], (5.0, COM_ERRORS["#N/A"]))
+        err = call(udf, "CKT_XFMR_DERATE", bad, 0.1)
+    assert err == [
+        ["ERROR: spectrum row 3, column pct: '#N/A' — expected a percentage of I1 (a number ≥ 0)"]
+    ]

@@ -14,126 +14,140 @@ from .registry import register_args, sheet_function
 
 CAUTION = "Screening calculation: the makers, the utility and a licensed engineer decide."
 
+# every argument is read with err_to_str: an Excel error cell reaches us as its text
+# ("#N/A") and is refused, instead of arriving as None and reading as a blank cell
 register_args(
     {
         "wiring": (
             "Optional: 1ph (default, a one-phase port), or 3ph4w / 3ph3w for the part of a "
             "per-phase model of a balanced three-phase four-/three-wire item (x3, effective "
             "V and I of IEEE 1459).",
-            {},
+            {"err_to_str": True},
         ),
         "p_ec_pu": (
             "Rated winding eddy-current loss in per unit of the rated I²R loss, e.g. 0.08 "
             "(maker or test report; at the hot spot for the hot-spot limit).",
-            {},
+            {"err_to_str": True},
         ),
         "p_osl_pu": (
             "Optional rated other stray loss in per unit of the rated I²R loss, e.g. 0.2; "
             "adds the load-loss rows.",
-            {},
+            {"err_to_str": True},
         ),
         "filter_kvar": (
             "Reactive power the filter delivers at the fundamental at bus_v, kvar (three-phase "
             "total when phases = 3), e.g. 300.",
-            {},
+            {"err_to_str": True},
         ),
         "bus_v": (
             "Bus voltage at the fundamental, V rms (line-to-line when phases = 3), e.g. 480.",
-            {},
+            {"err_to_str": True},
         ),
         "phases": (
             "1: single-phase values; 3: three-phase kvar, line-to-line volts and three-phase "
             "short-circuit MVA (C, L, R per phase of the star equivalent).",
-            {},
+            {"err_to_str": True},
         ),
         "tuned_order": (
             "Tuned order of the filter, h > 1, e.g. 4.7 (a few percent below the harmonic it "
             "serves); for a high-pass filter its corner order.",
-            {},
+            {"err_to_str": True},
         ),
         "q_factor": (
             "Quality factor: single-tuned X_n/R (typically 20-100), high-pass R/X_n "
             "(typically 0.5-2), X_n = sqrt(L/C).",
-            {},
+            {"err_to_str": True},
         ),
-        "filter_type": ("tuned (single-tuned), highpass, or capacitor (no reactor).", {}),
+        "filter_type": (
+            "tuned (single-tuned), highpass, or capacitor (no reactor).",
+            {"err_to_str": True},
+        ),
         "ssc_mva": (
             "Short-circuit power at the bus, MVA (three-phase when phases = 3), e.g. 30.",
-            {},
+            {"err_to_str": True},
         ),
-        "xr_ratio": ("Supply X/R ratio at the fundamental, e.g. 10.", {}),
+        "xr_ratio": ("Supply X/R ratio at the fundamental, e.g. 10.", {"err_to_str": True}),
         "harmonics": (
             "Range order | amps with its header row: RMS (line) current the filter absorbs at "
             "each harmonic order > 1, e.g. 5 | 120.",
-            {"ndim": 2},
+            {"ndim": 2, "err_to_str": True},
         ),
         "cap_kvar": (
             "Capacitor nameplate kvar (three-phase when phases = 3), e.g. 400.",
-            {},
+            {"err_to_str": True},
         ),
         "cap_v": (
             "Capacitor rated voltage, V rms (line-to-line when phases = 3), e.g. 600.",
-            {},
+            {"err_to_str": True},
         ),
-        "c_tol_minus": ("Capacitance tolerance below nominal, fraction >= 0, e.g. 0.", {}),
-        "c_tol_plus": ("Capacitance tolerance above nominal, fraction >= 0, e.g. 0.10.", {}),
-        "l_tol": ("Reactor inductance tolerance, +/- fraction, e.g. 0.03.", {}),
+        "c_tol_minus": (
+            "Capacitance tolerance below nominal, fraction >= 0, e.g. 0.",
+            {"err_to_str": True},
+        ),
+        "c_tol_plus": (
+            "Capacitance tolerance above nominal, fraction >= 0, e.g. 0.10.",
+            {"err_to_str": True},
+        ),
+        "l_tol": ("Reactor inductance tolerance, +/- fraction, e.g. 0.03.", {"err_to_str": True}),
         "c_tempco_ppm": (
             "Optional capacitance temperature coefficient, ppm/K (maker's data), e.g. -300.",
-            {},
+            {"err_to_str": True},
         ),
         "dt_k": (
             "Optional +/- temperature excursion from the rating temperature of C, K, e.g. 30.",
-            {},
+            {"err_to_str": True},
         ),
         "step_kvar": (
             "kvar of one capacitor step (three-phase when phases = 3), e.g. 50.",
-            {},
+            {"err_to_str": True},
         ),
-        "max_steps": ("Number of steps to try, 1 to 100, e.g. 8.", {}),
+        "max_steps": ("Number of steps to try, 1 to 100, e.g. 8.", {"err_to_str": True}),
         "injected": (
             "Injected harmonic orders (a range or one cell), e.g. 5, 7, 11, 13.",
-            {"ndim": 2},
+            {"ndim": 2, "err_to_str": True},
         ),
         "margin": (
             "Least distance of the parallel resonance from every injected order: orders "
             "(e.g. 0.3) or relative with % (e.g. 10%). Common practice, no standard fixes it.",
-            {},
+            {"err_to_str": True},
         ),
         "r_dc_ohm_km": (
             "Conductor DC resistance at the operating temperature, ohm/km, e.g. 0.0967.",
-            {},
+            {"err_to_str": True},
         ),
-        "orders": ("Harmonic orders (a range or one cell), each >= 0 (0 = DC).", {"ndim": 2}),
+        "orders": (
+            "Harmonic orders (a range or one cell), each >= 0 (0 = DC).",
+            {"ndim": 2, "err_to_str": True},
+        ),
         "k_s": (
             "Skin-effect coefficient k_s of the conductor construction (IEC 60287-1-1 table; "
             "1 for round stranded).",
-            {},
+            {"err_to_str": True},
         ),
         "k_p": (
             "Proximity-effect coefficient k_p (IEC 60287-1-1 table; e.g. 1 with extruded "
             "insulation, 0.8 dried and impregnated).",
-            {},
+            {"err_to_str": True},
         ),
         "arrangement": (
             "Proximity: none, 2core (two-core or two single-core), 3core (three-core or three "
             "single-core) or 3sector (three-core, sector-shaped conductors).",
-            {},
+            {"err_to_str": True},
         ),
         "d_c_mm": (
             "Optional conductor diameter, mm (d_x for sector conductors); needed unless "
             "arrangement is none.",
-            {},
+            {"err_to_str": True},
         ),
         "s_mm": (
             "Optional distance between conductor axes, mm (d_x + t for sector conductors); "
             "needed unless arrangement is none.",
-            {},
+            {"err_to_str": True},
         ),
         "extrapolate": (
             "Optional TRUE: continue the proximity factor beyond x_p = 2.8 with the skin-effect "
             "branches (an approximation, stated); FALSE (default) refuses there.",
-            {},
+            {"err_to_str": True},
         ),
     }
 )

@@ -56,7 +56,7 @@ register_args(
         "spectrum": (
             "Two-column range order | pct (percent of I1, order 1 = 100) with its header row: "
             "a measured or maker's spectrum. Optional in CKT_DRIVE (replaces the ideal I1/h law).",
-            {"ndim": 2},
+            {"ndim": 2, "err_to_str": True},
         ),
         "metric": (
             "Optional result: rms (default), peak, peak_sum, thd, dc, power, var_sum or "

@@ -368,10 +368,15 @@ def tuning_drift(
         raise InputError("argument", None, "c_tempco_ppm", tc, "expected a number (ppm/K)")
     dt = _num(dt_k, "dt_k", "a temperature excursion ≥ 0 K", strict=False)
     temp = abs(tc) * 1e-6 * dt
-    if cm >= 1 or lt >= 1 or temp >= 1:
-        raise InputError(
-            "argument", None, "c_tol_minus", c_tol_minus, "tolerances must stay below 1 (100 %)"
-        )
+    for name, value, frac in (
+        ("c_tol_minus", c_tol_minus, cm),
+        ("l_tol", l_tol, lt),
+        ("c_tempco_ppm", c_tempco_ppm, temp),
+    ):
+        if frac >= 1:
+            raise InputError(
+                "argument", None, name, value, "deviations must stay below 1 (100 %) of nominal"
+            )
     c_lo, c_hi = (1 - cm) * (1 - temp), (1 + cp) * (1 + temp)
     l_lo, l_hi = 1 - lt, 1 + lt
     return TuningDrift(
