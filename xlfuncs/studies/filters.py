@@ -553,7 +553,8 @@ def filter_rating(
     ----------
     design : FilterDesign
         From :func:`tuned_filter` or :func:`highpass_filter` (its fundamental current at
-        ``bus_v`` is taken from the sizing).
+        ``bus_v`` is taken from the sizing: size it at the highest operating voltage for a
+        rating).
     orders, amps_rms : arrays
         Harmonic orders (> 1, distinct) and the RMS (line) currents the filter absorbs at
         each, A — total filter currents, including what the bus harmonic voltage drives.
