@@ -209,3 +209,12 @@ def test_command_line(tmp_path, capsys):
     ratio = next(ln for ln in out.splitlines() if ln.strip().startswith("loss_ratio "))
     assert float(ratio.split()[1]) == pytest.approx(ref.loss_ratio, rel=1e-5)
     assert "extrapolated" in out and "licensed engineer" in out
+
+
+def test_docstring_examples_run():
+    import doctest
+
+    import xlfuncs.studies.cables as module
+
+    res = doctest.testmod(module)
+    assert res.attempted > 0 and res.failed == 0

@@ -330,3 +330,12 @@ def test_error_cells_are_refused_not_read_as_blank():
     assert ok[1] == ["order_nominal", 4.7, "h"]
     assert bad == [["ERROR: argument, column c_tempco_ppm: '#N/A' — expected a number"]]
     assert bad_range == [["ERROR: injected row 1, column 2: '#DIV/0!' — expected a number"]]
+
+
+def test_docstring_examples_run():
+    import doctest
+
+    import xlfuncs.studies.filters as module
+
+    res = doctest.testmod(module)
+    assert res.attempted > 0 and res.failed == 0

@@ -359,3 +359,12 @@ def test_powers_through_the_xlwings_call_path():
     assert four_wire[1][1] == pytest.approx(3 * one_phase[1][1], rel=1e-14)
     # the third harmonic is zero sequence: a three-wire item cannot carry it
     assert three_wire[0][0].startswith("ERROR: argument, column wiring: '3ph3w'")
+
+
+def test_docstring_examples_run():
+    import doctest
+
+    import xlfuncs.studies.powers as module
+
+    res = doctest.testmod(module)
+    assert res.attempted > 0 and res.failed == 0

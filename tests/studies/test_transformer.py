@@ -181,3 +181,12 @@ def test_through_the_xlwings_call_path():
     assert err == [
         ["ERROR: spectrum row 3, column pct: '#N/A' — expected a percentage of I1 (a number ≥ 0)"]
     ]
+
+
+def test_docstring_examples_run():
+    import doctest
+
+    import xlfuncs.studies.transformer as module
+
+    res = doctest.testmod(module)
+    assert res.attempted > 0 and res.failed == 0
