@@ -21,6 +21,7 @@ Norton impedances (ideal current sources), transformer magnetising branches.
 from __future__ import annotations
 
 import cmath
+import functools
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass
@@ -373,19 +374,27 @@ class HarmonicStudy:
     def _spectrum(self, phasors: np.ndarray, label: str) -> Spectrum:
         return Spectrum(self.freqs_hz, phasors, label, self.f1, self.options.max_order)
 
+    def _slots(self, s: str) -> tuple[np.ndarray, np.ndarray] | None:
+        """Positions in :attr:`orders` of network ``s``'s orders, and their rows in its
+        solution; None when the network was not solved."""
+        if self._solutions.get(s) is None:
+            return None
+        pos = np.flatnonzero([self._net_of(int(h)) == s for h in self.orders])
+        rows = np.array([self._index[s][int(h)] for h in self.orders[pos]], dtype=int)
+        return pos, rows
+
     def bus_voltage(self, bus: str) -> Spectrum:
         """Line-to-neutral voltage of ``bus`` (phase a), a :class:`Spectrum` over
         :attr:`orders`."""
         b = self.equipment.bus(bus)
         out = np.zeros(self.orders.size, dtype=complex)
-        for k, h in enumerate(self.orders):
-            s = self._net_of(int(h))
-            sol = self._solutions.get(s)
-            if sol is None or b not in sol.circuit.nodes:
+        for s, sol in self._solutions.items():
+            slots = self._slots(s)
+            if sol is None or slots is None or b not in sol.circuit.nodes:
                 continue
-            off = self.zones.offset(s, b)
+            pos, rows = slots
             idx = sol.circuit.nodes.index(b)
-            out[k] = sol.node_voltages[self._index[s][int(h)], idx] * _rot(off)
+            out[pos] = sol.node_voltages[rows, idx] * _rot(self.zones.offset(s, b))
         return self._spectrum(out, f"V({b})")
 
     def _end(self, it: Item, end: str | None) -> tuple[str, str]:
@@ -401,21 +410,20 @@ class HarmonicStudy:
         return e, it.bus if e == "bus" else str(it.bus_to)
 
     def _terminal_current(self, it: Item, end: str, bus: str, seqs: tuple[str, ...]) -> np.ndarray:
+        """Line current (physical frame) from ``bus`` into ``it`` at ``end`` over
+        :attr:`orders`, from the networks ``seqs`` (zero elsewhere)."""
         out = np.zeros(self.orders.size, dtype=complex)
-        for k, h in enumerate(self.orders):
-            s = self._net_of(int(h))
-            if s not in seqs:
-                continue
+        for s in seqs:
             sol = self._solutions.get(s)
-            if sol is None:
-                continue
+            slots = self._slots(s)
             terms = self._nets[s].terminals.get(it.name.lower(), {}).get(end, [])
-            if not terms:
+            if sol is None or slots is None or not terms:
                 continue
-            fi = self._index[s][int(h)]
-            pos = self._elem[s]
-            total = sum(sign * sol.element_currents[fi, pos[n.lower()]] for n, sign in terms)
-            out[k] = complex(total) * _rot(self.zones.offset(s, bus))
+            pos, rows = slots
+            cols = np.array([self._elem[s][n.lower()] for n, _sign in terms], dtype=int)
+            signs = np.array([sign for _n, sign in terms])
+            total = sol.element_currents[np.ix_(rows, cols)] @ signs
+            out[pos] = total * _rot(self.zones.offset(s, bus))
         return out
 
     def branch_current(
@@ -516,7 +524,7 @@ class HarmonicStudy:
             s, net.parts_table(), sources, [list(r) for r in self._core_opts], orders
         )
 
-    @property
+    @functools.cached_property
     def fundamental(self) -> FundamentalResults:
         """The fundamental solve's results (physical frame)."""
         sol = self._fund.solution
@@ -609,13 +617,13 @@ class HarmonicStudy:
     def _element_voltage(self, it: Item) -> np.ndarray:
         """Voltage of a filter's capacitor (star equivalent) per order, magnitude basis."""
         out = np.zeros(self.orders.size, dtype=complex)
-        for k, h in enumerate(self.orders):
-            s = self._net_of(int(h))
-            sol = self._solutions.get(s)
+        for s, sol in self._solutions.items():
+            slots = self._slots(s)
             elem = self._nets[s].cap_voltage.get(it.name.lower())
-            if sol is None or elem is None:
+            if sol is None or slots is None or elem is None:
                 continue
-            out[k] = sol.element_voltages[self._index[s][int(h)], self._elem[s][elem.lower()]]
+            pos, rows = slots
+            out[pos] = sol.element_voltages[rows, self._elem[s][elem.lower()]]
         return out
 
     def impedance_scan(
