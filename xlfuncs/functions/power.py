@@ -17,6 +17,7 @@ from ..power import (
     sequence_impedance,
     sequence_resonances,
 )
+from ..power.tables import EXCEL_ERRORS
 from ..power.views import branch_table, bus_table, neutral_table
 from ..views import scan_freqs, scan_table
 from . import core as _core  # noqa: F401  (describes f_start, f_stop, points)
@@ -24,36 +25,38 @@ from . import studies as _studies  # noqa: F401  (describes i_sc, i_l, edition)
 from .arguments import blank, freeze, name_arg, num_arg, points_arg
 from .registry import register_args, sheet_function
 
+# every argument of ours is read with err_to_str: an Excel error cell reaches us as its text
+# ("#N/A") and is refused, instead of arriving as None and reading as a blank cell
 register_args(
     {
         "equipment": (
             "Equipment table with its header row: name, kind, bus, bus_to and the rating "
             "columns each kind needs (kv, mva_sc, x_r, kva, kv_hv, kv_lv, z_pct, connection, "
             "kvar, kw, pf, …).",
-            {"ndim": 2},
+            {"ndim": 2, "err_to_str": True},
         ),
         "spectra": (
             "Spectra table with its header row: spectrum, order, pct (of I1), phase_deg "
             "(relative to the fundamental). Leave empty when every converter uses its ideal "
             "spectrum.",
-            {"ndim": 2},
+            {"ndim": 2, "err_to_str": True},
         ),
-        "bus": ("Name of a bus of the equipment table.", {}),
-        "item": ("Name of an item (a row) of the equipment table.", {}),
+        "bus": ("Name of a bus of the equipment table.", {"err_to_str": True}),
+        "item": ("Name of an item (a row) of the equipment table.", {"err_to_str": True}),
         "sequence": (
             "Sequence network: + (positive), - (negative), 0 (zero), or fundamental.",
-            {},
+            {"err_to_str": True},
         ),
         "study_options": (
             "Two-column range key | value: fundamental_hz (required), max_order (default 50).",
-            {"ndim": 2},
+            {"ndim": 2, "err_to_str": True},
         ),
         "branch_end": (
             "Optional: bus (default) or bus_to, the end of a transformer or cable; for a "
             "neutral current the winding of a YNyn transformer.",
-            {},
+            {"err_to_str": True},
         ),
-        "scan_sequence": ("Optional sequence network: + (default), - or 0.", {}),
+        "scan_sequence": ("Optional sequence network: + (default), - or 0.", {"err_to_str": True}),
     }
 )
 
@@ -88,10 +91,17 @@ def _spectra(value: Any) -> Any:
     return freeze(value)
 
 
+def _name(value: Any, column: str) -> str:
+    text = name_arg(value, column)
+    if text.upper() in EXCEL_ERRORS:
+        raise InputError("argument", None, column, value, "the cell holds an Excel error")
+    return text
+
+
 def _end(value: Any) -> str | None:
     if value is None or (isinstance(value, str) and not value.strip()):
         return None
-    return name_arg(value, "branch_end")
+    return _name(value, "branch_end")
 
 
 @sheet_function(
@@ -103,7 +113,7 @@ def _end(value: Any) -> str | None:
 )
 def CKT_BUS_HARMONICS(equipment, spectra, bus, study_options=None):
     st = study_of(equipment, spectra, study_options)
-    return bus_table(st, name_arg(bus, "bus"))
+    return bus_table(st, _name(bus, "bus"))
 
 
 @sheet_function(
@@ -115,7 +125,7 @@ def CKT_BUS_HARMONICS(equipment, spectra, bus, study_options=None):
 )
 def CKT_BRANCH_HARMONICS(equipment, spectra, item, study_options=None, branch_end=None):
     st = study_of(equipment, spectra, study_options)
-    return branch_table(st, name_arg(item, "item"), _end(branch_end) or "bus")
+    return branch_table(st, _name(item, "item"), _end(branch_end) or "bus")
 
 
 @sheet_function(
@@ -127,7 +137,7 @@ def CKT_BRANCH_HARMONICS(equipment, spectra, item, study_options=None, branch_en
 )
 def CKT_NEUTRAL_HARMONICS(equipment, spectra, item, study_options=None, branch_end=None):
     st = study_of(equipment, spectra, study_options)
-    return neutral_table(st, name_arg(item, "item"), _end(branch_end))
+    return neutral_table(st, _name(item, "item"), _end(branch_end))
 
 
 @sheet_function(
@@ -137,7 +147,8 @@ def CKT_NEUTRAL_HARMONICS(equipment, spectra, item, study_options=None, branch_e
     "each item's own voltage; ground node GND.",
 )
 def CKT_EXPAND(equipment, sequence, study_options=None):
-    table = expand_network(equipment, parse_sequence(sequence), study_options)
+    seq = parse_sequence(_name(sequence, "sequence") if isinstance(sequence, str) else sequence)
+    table = expand_network(equipment, seq, study_options)
     if len(table) == 1:
         return [
             table[0],
@@ -175,7 +186,7 @@ def _check_rows(check: Any) -> list[list[Any]]:
 )
 def CKT_BUS_V519(equipment, spectra, bus, study_options=None):
     st = study_of(equipment, spectra, study_options)
-    return _check_rows(st.check_voltage(name_arg(bus, "bus")))
+    return _check_rows(st.check_voltage(_name(bus, "bus")))
 
 
 @sheet_function(
@@ -188,7 +199,7 @@ def CKT_BRANCH_I519(equipment, spectra, item, i_sc, i_l, study_options=None, edi
     st = study_of(equipment, spectra, study_options)
     return _check_rows(
         st.check_current(
-            name_arg(item, "item"),
+            _name(item, "item"),
             num_arg(i_l, "i_l"),
             num_arg(i_sc, "i_sc"),
             edition=int(num_arg(edition, "edition", 2014)),
@@ -205,13 +216,13 @@ def CKT_BRANCH_I519(equipment, spectra, item, i_sc, i_l, study_options=None, edi
 )
 def CKT_ITEM_CAPDUTY(equipment, spectra, item, study_options=None):
     st = study_of(equipment, spectra, study_options)
-    return st.capacitor_duty(name_arg(item, "item")).table()
+    return st.capacitor_duty(_name(item, "item")).table()
 
 
 def _seq(value: Any) -> str:
     if value is None or (isinstance(value, str) and not value.strip()):
         return "+"
-    return parse_sequence(value)
+    return parse_sequence(_name(value, "sequence") if isinstance(value, str) else value)
 
 
 @sheet_function(
@@ -225,7 +236,7 @@ def CKT_BUS_SCAN(
 ):
     f = scan_freqs(f_start, f_stop, points_arg(points))
     freqs, z = sequence_impedance(
-        freeze(equipment), name_arg(bus, "bus"), f, _seq(scan_sequence), freeze(study_options)
+        freeze(equipment), _name(bus, "bus"), f, _seq(scan_sequence), freeze(study_options)
     )
     return scan_table(freqs, z)
 
@@ -241,7 +252,7 @@ def CKT_BUS_RESONANCES(
 ):
     res = sequence_resonances(
         freeze(equipment),
-        name_arg(bus, "bus"),
+        _name(bus, "bus"),
         num_arg(f_start, "f_start"),
         num_arg(f_stop, "f_stop"),
         _seq(scan_sequence),
