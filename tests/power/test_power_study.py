@@ -8,6 +8,8 @@ import math
 import numpy as np
 import plants
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from plants import converter, row, supply, table, transformer
 
 import xlfuncs
@@ -226,3 +228,68 @@ def test_a_motor_with_a_running_load_draws_it_at_the_fundamental():
     assert 1.5 * v * np.conj(i) == pytest.approx(
         complex(220e3, 220e3 * math.tan(math.acos(0.87))), rel=1e-9
     )
+
+
+def test_harmonic_angles_are_referred_to_the_converter_fundamental():
+    # the h-th current's angle is h·θ1 + phase_deg(h) (the convention; the ideal
+    # spectrum has 180° at k·p − 1 and 0° at k·p + 1)
+    st = harmonic_study(plant(), options=plants.OPTIONS)
+    d1 = st.branch_current("D1")
+    th = d1.phase_deg[0]
+    for k, h in enumerate(st.orders[1:], start=1):
+        want = h * th + (180.0 if h % 6 == 5 else 0.0)
+        diff = (d1.phase_deg[k] - want + 180) % 360 - 180
+        assert abs(diff) < 1e-9, h
+
+
+def test_public_names_of_the_power_package():
+    import doctest
+
+    import xlfuncs.power as power
+    import xlfuncs.power.vector_group as vg
+
+    assert len(set(power.__all__)) == len(power.__all__)  # order: ruff RUF022 (make lint)
+    for name in power.__all__:
+        assert hasattr(power, name), name
+    for mod in (power, vg):
+        res = doctest.testmod(mod)
+        assert res.attempted > 0 and res.failed == 0
+
+
+@settings(max_examples=15, deadline=None)
+@given(
+    group=st.sampled_from(["Dyn11", "Dyn1", "YNd1", "Yyn0", "Dd0", "YNyn0"]),
+    kva=st.floats(300, 3000),
+    z_pct=st.floats(3, 9),
+    kvar=st.floats(20, 600),
+    kw=st.floats(20, 400),
+)
+def test_currents_into_every_bus_sum_to_zero(group, kva, z_pct, kvar, kw):
+    # Kirchhoff's current law at each bus, every order, for random ratings
+    eq = table(
+        supply(mva_sc=200, x_r=10, mva_sc_1ph=150),
+        transformer("T1", "PCC", "LV", group, kva=kva, z_pct=z_pct, x_r=6),
+        row(name="C1", kind="capacitor", bus="LV", kv=0.48, kvar=kvar, connection="YN"),
+        row(
+            name="L1",
+            kind="load",
+            bus="LV",
+            kv=0.48,
+            kw=kw,
+            pf=0.9,
+            model="series",
+            connection="YN",
+        ),
+        converter("D1", "LV", kw=kw, connection="YN", spectrum="S"),
+    )
+    spectra = [["spectrum", "order", "pct", "phase_deg"], ["S", 3, 30, 0], ["S", 5, 20, 90]]
+    s = harmonic_study(eq, spectra, plants.OPTIONS)
+    lv = (
+        s.branch_current("T1", "bus_to").phasors
+        + s.branch_current("C1").phasors
+        + s.branch_current("L1").phasors
+        + s.branch_current("D1").phasors
+    )
+    hv = s.branch_current("U1").phasors + s.branch_current("T1").phasors
+    scale = abs(s.branch_current("T1", "bus_to").phasors).max()
+    assert np.abs(lv).max() <= 1e-9 * scale and np.abs(hv).max() <= 1e-9 * scale

@@ -344,3 +344,12 @@ def test_row_order_does_not_change_the_results(order):
     a = harmonic_study(eq, options=plants.OPTIONS).bus_voltage("LV")
     b = harmonic_study(shuffled, options=plants.OPTIONS).bus_voltage("LV")
     assert a.phasors == pytest.approx(b.phasors, rel=1e-12, abs=1e-12 * abs(a.phasors[0]))
+
+
+def test_a_bus_named_like_a_part_of_the_expansion_is_refused():
+    eq = edit(base(), 3, "bus_to", "T1.lv")
+    eq = edit(eq, 4, "bus", "T1.lv")
+    eq = edit(eq, 5, "bus", "T1.lv")
+    with pytest.raises(InputError) as exc:
+        harmonic_study(eq, options=plants.OPTIONS)
+    assert "taken by a part or internal node" in message(exc)

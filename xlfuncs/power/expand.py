@@ -515,6 +515,8 @@ def build_network(eq: Equipment, zones: Zones, options: PowerOptions, sequence: 
     for it in eq.items:
         MODELS[it.kind](it, ctx)
     internal = {n.lower() for n in net.internal}
+    internal |= {str(r[0]).lower() for r in net.parts} | {str(r[0]).lower() for r in net.sources}
+    internal |= {d.source.lower() for d in net.devices}
     for b in eq.buses:
         if b.lower() in internal:
             row, col = eq.first_use[b]
@@ -523,8 +525,8 @@ def build_network(eq: Equipment, zones: Zones, options: PowerOptions, sequence: 
                 row,
                 col,
                 b,
-                "this bus name is taken by an internal node of the expansion (item name, a "
-                "dot and a suffix); rename the bus",
+                "this bus name is taken by a part or internal node of the expansion (an "
+                "item name, a dot and a suffix); rename the bus",
             )
     return net
 

@@ -116,9 +116,10 @@ def solve_fundamental(
     sol = solve(parts, sources, options)
     currents: dict[str, complex] = {}
     mismatch = 0.0
+    nodes = sol.circuit.nodes
     for d in devices:
         i = complex(sol.current(d.source).phasors[0])
-        vb = complex(sol.voltage(d.bus).phasors[0])
+        vb = complex(sol.node_voltages[0, nodes.index(d.bus)])
         currents[d.source.lower()] = i
         s_calc = 1.5 * vb * i.conjugate()
         s_spec = complex(d.p_w, d.q_var)

@@ -530,7 +530,7 @@ class HarmonicStudy:
         sol = self._fund.solution
         volts = {}
         for b in self.equipment.buses:
-            v = complex(sol.voltage(b).phasors[0])
+            v = complex(sol.node_voltages[0, sol.circuit.nodes.index(b)])
             volts[b] = v * _rot(self.zones.offset("+", b))
         cur: dict[str, complex] = {}
         theta: dict[str, float] = {}
