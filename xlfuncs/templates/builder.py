@@ -71,6 +71,21 @@ STYLES: dict[str, dict[str, Any]] = {
     "verdict": {"bold": True, "font_size": 16, "border": 2, "align": "center",
                 "valign": "vcenter"},
 }
+INPUT_COLS = (Col("input", width=40), Col("value", width=12), Col("unit", width=7),
+              Col("defined name", width=15), Col("check", width=22), Col("note", width=48))
+RESULT_COLS = (Col("result", width=40), Col("value", width=13), Col("unit", width=7),
+               Col("defined name", width=15), Col("note", width=40))
+CHECK_COLS = (Col("check", width=38), Col("value", width=12), Col("", width=4),
+              Col("limit", width=11), Col("unit", width=7), Col("result", width=12),
+              Col("source of the limit", width=54))
+VERDICT_NOTE = (
+    "PASS only when every check that applies is a number within its limit and every input is "
+    "accepted; a check whose value is not a number reads ERROR and makes the verdict "
+    "INCOMPLETE; n/a marks a check that does not apply (for example capacitor duty without a "
+    "capacitor bank)."
+)
+AXIS = {"major_gridlines": {"visible": True, "line": {"color": "#DDDDDD", "width": 0.5}},
+        "label_position": "low", "name_font": {"size": 9, "bold": False}, "num_font": {"size": 8}}
 # fmt: on
 _RULE_TEXT = {"<=": "≤", "<": "<", ">=": "≥", ">": ">"}
 # A4 with 0.5" side and 0.75" top/bottom margins, in points: (width, height)
@@ -255,7 +270,7 @@ class Page:
         scale = min(100, int(100 * page_w / width_pt * 0.92))  # margin for font metrics
         ws.set_print_scale(scale)
         if self.printed:
-            ws.set_h_pagebreaks(self._breaks(page_h * 100 / scale * 0.96))
+            ws.set_h_pagebreaks(self._breaks(page_h * 100 / scale * 0.985))
 
     def _breaks(self, cap: float) -> list[int]:
         """Manual page breaks so that no kept item straddles two pages."""
@@ -399,18 +414,7 @@ def _validate(
 
 def _inputs(book: Book, page: Page) -> None:
     page.head(f"{book.t.title} — inputs")
-    page.header(
-        page.row,
-        0,
-        (
-            Col("input", width=40),
-            Col("value", width=12),
-            Col("unit", width=7),
-            Col("defined name", width=15),
-            Col("check", width=22),
-            Col("note", width=48),
-        ),
-    )
+    page.header(page.row, 0, INPUT_COLS)
     page.row += 1
     for group in book.t.inputs:
         if isinstance(group, Section):
@@ -552,17 +556,7 @@ def _results(book: Book, page: Page) -> None:
     for item in book.t.results:
         if isinstance(item, Section):
             page.title(item.title)
-            page.header(
-                page.row,
-                0,
-                (
-                    Col("result", width=40),
-                    Col("value", width=13),
-                    Col("unit", width=7),
-                    Col("defined name", width=15),
-                    Col("note", width=40),
-                ),
-            )
+            page.header(page.row, 0, RESULT_COLS)
             for k, res in enumerate(item.items):
                 r = page.row + 1 + k
                 page.put(r, 0, res.label, "wrapcell")
@@ -612,40 +606,21 @@ def _chart(book: Book, page: Page, ch: Chart) -> None:
     def rng(ref: str) -> str:
         return "=" + book.main.render(ref)
 
-    for s in ch.series:
-        one: dict[str, Any] = {"name": s.name, "categories": rng(s.x), "values": rng(s.y)}
-        if s.style == "markers":
-            one |= {
-                "marker": {
-                    "type": "diamond",
-                    "size": 8,
-                    "fill": {"color": s.color},
-                    "border": {"color": s.color},
-                },
-                "line": {"none": True},
-            }
-        elif s.style == "column":
-            one |= {"fill": {"color": s.color}, "gap": 80}
-        else:
-            one |= {"line": {"color": s.color, "width": 1.75}, "marker": {"type": "none"}}
-        chart.add_series(one)
-    grid = {"visible": True, "line": {"color": "#DDDDDD", "width": 0.5}}
+    for ser in ch.series:
+        look = {
+            "markers": {"marker": {"type": "diamond", "size": 8, "fill": {"color": ser.color},
+                                   "border": {"color": ser.color}}, "line": {"none": True}},
+            "column": {"fill": {"color": ser.color}, "gap": 80},
+            "line": {"line": {"color": ser.color, "width": 1.75}, "marker": {"type": "none"}},
+        }[ser.style]  # fmt: skip
+        chart.add_series(
+            {"name": ser.name, "categories": rng(ser.x), "values": rng(ser.y), **look}
+        )
     for axis, setter in ((ch.x, chart.set_x_axis), (ch.y, chart.set_y_axis)):
-        opts: dict[str, Any] = {
-            "name": axis.title,
-            "major_gridlines": grid,
-            "label_position": "low",
-            "name_font": {"size": 9, "bold": False},
-            "num_font": {"size": 8},
-        }
-        if axis.log:
-            opts["log_base"] = 10
-        if axis.lo is not None:
-            opts["min"] = axis.lo
-        if axis.hi is not None:
-            opts["max"] = axis.hi
-        if axis.fmt:
-            opts["num_format"] = axis.fmt
+        opts: dict[str, Any] = {"name": axis.title, **AXIS}
+        opts |= {"log_base": 10} if axis.log else {}
+        opts |= {k: v for k, v in (("min", axis.lo), ("max", axis.hi), ("num_format", axis.fmt))
+                 if v is not None}  # fmt: skip
         setter(opts)
     chart.set_title({"name": ch.title, "name_font": {"size": 11}})
     chart.set_legend({"position": "bottom", "font": {"size": 8}})
@@ -659,16 +634,7 @@ def _checks(book: Book, page: Page) -> None:
     page.head(
         f"{book.t.title} — checks against limits, with the source of each limit", caution=True
     )
-    cols = (
-        Col("check", width=38),
-        Col("value", width=12),
-        Col("", width=4),
-        Col("limit", width=11),
-        Col("unit", width=7),
-        Col("result", width=12),
-        Col("source of the limit", width=54),
-    )
-    page.header(page.row, 0, cols)
+    page.header(page.row, 0, CHECK_COLS)
     top = page.row + 1
     for k, chk in enumerate(book.t.checks):
         r = top + k
@@ -699,16 +665,7 @@ def _checks(book: Book, page: Page) -> None:
     page.height(r, 24)
     book.name("verdict", page, r, 5)
     r += 2
-    page.wrap(
-        r,
-        0,
-        6,
-        "PASS only when every check that applies is a number within its limit "
-        "and every input is accepted; a check whose value is not a number reads ERROR and "
-        "makes the verdict INCOMPLETE; n/a marks a check that does not apply (for "
-        "example capacitor duty without a capacitor bank).",
-        "text",
-    )
+    page.wrap(r, 0, 6, VERDICT_NOTE)
     page.keep.append((top - 1, r))
     page.row = r + 1
 
@@ -814,7 +771,7 @@ def _scenarios(book: Book, page: Page, cases: Page) -> None:
             page.row,
             0,
             (
-                Col("check", width=36),
+                Col("check", width=40),
                 Col("unit", width=7),
                 *(Col(f"S{j + 1}", width=10) for j in range(n)),
                 *extra,
@@ -1013,7 +970,9 @@ def build(t: Template, path: Path) -> None:
     _results(book, pages["Results"])
     _checks(book, pages["Checks"])
     if t.scenarios:
-        pages["Cases"].head(f"{t.title} — one copy of the dependent calculation per scenario")
+        pages["Cases"].head(
+            f"{t.title} — one copy of the dependent calculation per scenario (not printed)"
+        )
         _scenarios(book, pages["Scenarios"], pages["Cases"])
     _charts(book, pages["Charts"])
     _notes(book, pages["Notes"])
