@@ -43,6 +43,18 @@ EXPECTED = [  # the names the product promises (issue: worksheet functions)
     "CKT_DRIVE",
     "CKT_TOLERANCE",
     "CKT_IMPEDANCE",
+    "CKT_GAIN",
+    "CKT_GAIN_AT",
+    "CKT_PORT_Z",
+    "CKT_TWOPORT_Z",
+    "CKT_POLES",
+    "CKT_ZEROS",
+    "CKT_FILTER_MARGIN",
+    "CKT_MARGIN_SCAN",
+    "CKT_DAMPING",
+    "CKT_NOISE",
+    "CKT_NOISE_RMS",
+    "CKT_NOISE_PARTS",
 ]
 
 # VBA keywords that cannot name an argument. [MS-VBAL] VBA Language Specification,
@@ -619,7 +631,7 @@ def test_resonances_spill(udf):
     out = call(
         udf, "CKT_RESONANCES", parts, "bus", 60.0, 3000.0, MISSING, (("fundamental_hz", 60.0),)
     )
-    assert out[0] == ["kind", "freq_hz", "order", "z_ohm"]
+    assert out[0] == ["kind", "freq_hz", "order", "z_ohm", "damping", "q"]
     assert out[1][0] == "parallel" and out[1][2] == pytest.approx(13.7, abs=0.05)  # rule of thumb
 
 
