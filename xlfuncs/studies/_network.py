@@ -381,11 +381,11 @@ def _equilibrate(m: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     n = m.shape[0]
     r = np.ones(n)
     c = np.ones(n)
-    for _ in range(6):
-        rm = (m * r[:, None] * c[None, :]).max(axis=1)
-        r = r * np.where(rm > 0, np.exp2(-np.round(np.log2(np.where(rm > 0, rm, 1.0)))), 1.0)
-        cm = (m * r[:, None] * c[None, :]).max(axis=0)
-        c = c * np.where(cm > 0, np.exp2(-np.round(np.log2(np.where(cm > 0, cm, 1.0)))), 1.0)
+    for _ in range(4):
+        rm = (m * c[None, :]).max(axis=1) * r
+        r = r * np.ldexp(1.0, -np.frexp(np.where(rm > 0, rm, 1.0))[1])
+        cm = (m * r[:, None]).max(axis=0) * c
+        c = c * np.ldexp(1.0, -np.frexp(np.where(cm > 0, cm, 1.0))[1])
     return r, c
 
 
@@ -610,11 +610,8 @@ def stationary_points(
     edges: list[np.ndarray] = []
     for lo, hi in segments:
         dec = max(1, math.ceil(4 * math.log10(hi / lo)))
-        inner = np.unique(
-            np.concatenate(
-                [[lo, hi], feat[(feat > lo) & (feat < hi)], np.geomspace(lo, hi, dec + 1)]
-            )
-        )
+        grid = np.exp(np.linspace(math.log(lo), math.log(hi), dec + 1))
+        inner = np.unique(np.concatenate([[lo, hi], feat[(feat > lo) & (feat < hi)], grid]))
         inner = inner[(inner >= lo) & (inner <= hi)]
         edges.append(np.c_[inner[:-1], inner[1:]])
     cells = np.concatenate(edges) if edges else np.zeros((0, 2))
@@ -666,9 +663,9 @@ def stationary_points(
             glo = np.where(same, gx, glo)
             bhi = np.where(same, bhi, x)
             newton = x - gx / dgx
-            ok = (newton > blo) & (newton < bhi) & np.isfinite(newton)
+            ok = (newton >= blo) & (newton <= bhi) & np.isfinite(newton)
             x_new = np.where(ok, newton, 0.5 * (blo + bhi))
-            done = (np.abs(x_new - x) <= 1e-15 * x) | (bhi - blo <= 1e-14 * x) | (gx == 0)
+            done = (np.abs(x_new - x) <= 1e-13 * x) | (bhi - blo <= 1e-13 * x) | (gx == 0)
             x = np.where(gx == 0, x, x_new)
             if np.all(done):
                 break

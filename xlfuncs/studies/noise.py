@@ -418,7 +418,7 @@ def noise_rms(
     poles, w_ref_arr, _ = _features(st, lo if lo > 0 else 1e-3, hi if not infinite else 1e12)
     w_ref = float(w_ref_arr[0])
     f_hi = math.inf
-    if law is None:
+    if law is None and (infinite or lo == 0):
         inf_order, zero_order, top = _degrees(st, poles, w_ref)
         if infinite:
             bad = np.flatnonzero(inf_order < 1)

@@ -7,7 +7,7 @@ its zeros z are the eigenvalues of the pencil bordered by the node's test port; 
 pairs closer than 1e-8·|s| cancel (modes the node does not see). Every extremum of |Z(jω)|
 in the band is then a root of the explicit d ln|Z|/dω = Σ_z h − Σ_p h, isolated rigorously
 (interval bisection with a second-order Taylor bound, see
-:func:`xlfuncs.studies._network.stationary_points`) and refined to 1e-15 — no grid, so the
+:func:`xlfuncs.studies._network.stationary_points`) and refined to 1e-13 — no grid, so the
 result does not depend on ``points``. The solver then confirms each one: d|Z|/dω from the
 exact derivative of the solution changes sign across it, and the eigenvalue model agrees
 with the solved |Z| (to 1e-6) at the band ends, 4 points per decade and every natural
@@ -165,7 +165,7 @@ def _exact(system: System, plus: int, minus: int, node: str, lo: float, hi: floa
     feats = np.concatenate([p.imag, z.imag])
     feats = feats[(feats > w_lo) & (feats < w_hi)]
     n_dec = max(1, math.ceil(4 * math.log10(hi / lo)))
-    check_w = np.concatenate([np.geomspace(w_lo, w_hi, n_dec + 1), feats])
+    check_w = np.concatenate([np.exp(np.linspace(math.log(w_lo), math.log(w_hi), n_dec + 1)), feats])
     axis_z = z[(np.abs(z.real) <= AXIS_RTOL * np.abs(z)) & (z.imag > w_lo) & (z.imag < w_hi)]
     if axis_z.size:  # |Z| = 0 there: keep the model check away from those points
         near = np.abs(check_w[:, None] - axis_z.imag[None, :]) <= 1e-6 * check_w[:, None]
