@@ -223,3 +223,58 @@ def test_worksheet_and_cli(capsys, tmp_path):
     assert main([*args, "--temperature-c", "26.85", "--points", "3"]) == 0
     text = capsys.readouterr().out
     assert "2.03518e-06" in text and "density_v_rthz" in text
+
+
+def test_noise_rows_of_the_sources_table():
+    # the sources table's noise rows (density, corner_hz) reach the study as records: the
+    # same result as the records given directly
+    rc = [HEAD, ["R", "R", "in", "out", 1e3], ["C", "C", "out", "GND", 1e-9]]
+    table = [
+        ["name", "kind", "from", "to", "freq_hz", "peak", "density", "corner_hz"],
+        ["Vs", "V", "in", "GND", 0, 1.0, None, None],
+        ["in1", "I", "GND", "out", None, None, "2p", "1k"],
+    ]
+    a = noise_rms(rc, table, "out", 10.0, 1e5, 25.0)
+    b = noise_rms(
+        rc,
+        SUP,
+        "out",
+        10.0,
+        1e5,
+        25.0,
+        noise_sources=[Noise(3, "in1", "I", "GND", "out", 2e-12, 1e3)],
+    )
+    assert a.rms_v == pytest.approx(b.rms_v, rel=1e-12)
+    assert {c.name for c in a.contributions} == {"R", "in1"}
+
+
+def test_voltage_noise_row_in_series_through_a_helper_resistor():
+    # divider R1/R2 with the noise source in series with R1 (across a 1 mΩ helper): the
+    # output sees d·R2/(R1 + R2) exactly (the source shorts the helper), the helper nothing
+    r1, r2, d = 3e3, 1e3, 5e-9
+    parts = [
+        HEAD,
+        ["Rh", "R", "in", "x", 1e-3],
+        ["R1", "R", "x", "mid", r1],
+        ["R2", "R", "mid", "GND", r2],
+    ]
+    table = [
+        ["name", "kind", "from", "to", "freq_hz", "peak", "density"],
+        ["Vs", "V", "in", "GND", 0, 1.0, None],
+        ["en", "V", "in", "x", None, None, d],
+    ]
+    s = noise_density(parts, table, "mid", [1e3], 25.0)
+    k = s.names.index("en")
+    assert s.contributions[0, k] == pytest.approx((d * r2 / (r1 + r2)) ** 2, rel=1e-12)
+    assert s.contributions[0, s.names.index("Rh")] < 1e-30
+
+
+def test_instrument_example_runs(capsys):
+    import runpy
+    from pathlib import Path
+
+    path = Path(__file__).parents[2] / "examples" / "instrument" / "anti_alias.py"
+    mod = runpy.run_path(str(path))
+    assert mod["main"]() == 0
+    out = capsys.readouterr().out
+    assert "DEMO DATA" in out and "Alias rejection" in out and "dynamic range" in out

@@ -36,7 +36,9 @@ __all__ = [
     "AXIS_RTOL",
     "CANCEL_RTOL",
     "INFINITE_RATIO",
+    "MAX_EIG_UNKNOWNS",
     "Functional",
+    "adaptive_integral",
     "as_circuit",
     "cancel_common",
     "check_band",
@@ -89,6 +91,10 @@ def check_band(f_start: Any, f_stop: Any, *, allow_zero: bool = False) -> tuple[
         )
     if not hi > lo or (not math.isfinite(hi) and not allow_zero):
         raise InputError("argument", None, "f_stop", f_stop, "expected a frequency > f_start")
+    if lo > 0 and lo < 1e-6:
+        raise InputError("argument", None, "f_start", f_start, "expected 1e-6 Hz or more")
+    if math.isfinite(hi) and hi > 1e12:
+        raise InputError("argument", None, "f_stop", f_stop, "expected at most 1e12 Hz")
     if math.isfinite(hi) and lo > 0 and hi / lo > 1e12:
         raise InputError(
             "argument", None, "f_stop", f_stop, "expected a band of at most 12 decades"
@@ -622,6 +628,11 @@ def stationary_points(
         for _ in range(200):
             if cells.size == 0:
                 break
+            if cells.shape[0] > 100_000:  # pragma: no cover - a safeguard on the work
+                raise NetworkError(
+                    "the extrema of |H| could not be isolated (more than 100000 candidate "
+                    "intervals): natural frequencies too many or too close to separate"
+                )
             u, v = cells[:, 0], cells[:, 1]
             m = 0.5 * (u + v)
             r = 0.5 * (v - u)

@@ -149,7 +149,21 @@ def transfer_poles_zeros(
 ) -> tuple[tuple[NaturalFrequency, ...], tuple[NaturalFrequency, ...]]:
     """Poles and zeros of H = output / (the named source's own value), every other
     source zeroed; pole–zero pairs within 1e-8·|s| of each other cancel (modes the output
-    does not see from this input). Returns ``(poles, zeros)``."""
+    does not see from this input). Returns ``(poles, zeros)``.
+
+    Examples
+    --------
+    Series R with a shunt R_L–L–C notch: zeros where s²LC + sR_L·C + 1 = 0 (closed form).
+
+    >>> parts = [["name", "kind", "from", "to", "value"],
+    ...          ["R", "R", "in", "out", 100.0], ["RL", "R", "out", "x", 0.5],
+    ...          ["L", "L", "x", "y", 1e-3], ["C", "C", "y", "GND", 1e-6]]
+    >>> sources = [["name", "kind", "from", "to", "freq_hz", "peak"],
+    ...            ["V", "V", "in", "GND", 50, 1.0]]
+    >>> poles, zeros = transfer_poles_zeros(parts, sources, "V", "out")
+    >>> round(zeros[0].freq_hz, 4), round(zeros[0].q, 4)
+    (5032.9212, 63.2456)
+    """
     circuit = as_circuit(parts, sources, options)
     _refuse_law(circuit, "poles or zeros")
     diagnose(circuit, dc=False)

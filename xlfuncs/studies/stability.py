@@ -78,7 +78,13 @@ def _margin_arg(margin_db: Any) -> float:
 
 
 def negative_input_resistance(v_in: float, p_in: float) -> float:
-    """R_N = −V²/P (Ω) of a converter regulating its output (constant input power)."""
+    """R_N = −V²/P (Ω) of a converter regulating its output (constant input power).
+
+    Examples
+    --------
+    >>> negative_input_resistance(48.0, 200.0)
+    -11.52
+    """
     v = _positive(v_in, "v_in", "V")
     p = _positive(p_in, "p_in", "W")
     return -(v * v) / p
