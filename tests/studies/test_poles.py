@@ -259,3 +259,14 @@ def test_worksheet_and_cli(capsys, tmp_path):
     assert main(["poles", str(p)]) == 0
     text = capsys.readouterr().out
     assert "5032.92" in text and "0.158114" in text
+
+
+def test_cli_zeros(capsys, tmp_path):
+    p, s = tmp_path / "p.csv", tmp_path / "s.csv"
+    p.write_text(
+        "name,kind,from,to,value\nR,R,in,out,100\nRL,R,out,x,0.5\nL,L,x,y,1m\nC,C,y,GND,1u\n"
+    )
+    s.write_text("name,kind,from,to,freq_hz,peak\nV,V,in,GND,50,1\n")
+    assert main(["zeros", str(p), str(s), "--source", "V", "--output", "out"]) == 0
+    out = capsys.readouterr().out
+    assert "5032.92" in out and "63.2456" in out  # f0 = 1/(2π√(LC)), Q = √(L/C)/R_L

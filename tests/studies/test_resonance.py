@@ -285,3 +285,16 @@ def test_worksheet_note_row_for_a_resistance_law():
     out = FUNCTIONS["CKT_RESONANCES"].call(p, "n", 60.0, 5000.0, None, [["fundamental_hz", 50]])
     assert out[-1][0] == "note" and "not proven" in out[-1][1]
     assert out[1][0] == "parallel"
+
+
+def test_cli_resonances(capsys, tmp_path):
+    from xlfuncs.cli import main
+
+    parts, _vals = _tanks([1000, 1002, 1004], r_factor=1e4)
+    p = tmp_path / "p.csv"
+    p.write_text("\n".join(",".join(str(c) for c in row) for row in parts) + "\n")
+    assert main(["resonances", str(p), "--node", "n0", "--f-start", "100", "--f-stop", "1e4"]) == 0
+    out = capsys.readouterr().out
+    assert out.count("parallel") == 3 and out.count("series") == 2
+    assert main(["resonances", str(p), "--node", "zz", "--f-start", "100", "--f-stop", "1e4"]) == 2
+    assert "no node of that name" in capsys.readouterr().err

@@ -239,3 +239,12 @@ def test_cli_gain(capsys, tmp_path):
     )
     assert main([*args[:6], "nowhere", "--f-start", "1", "--f-stop", "10"]) == 2
     assert "no node, part or source of that name" in capsys.readouterr().err
+
+
+def test_cli_twoport(capsys, tmp_path):
+    p = tmp_path / "p.csv"
+    p.write_text("name,kind,from,to,value\nRs,R,in,out,10\nRp,R,out,GND,40\nRL,R,out,GND,20\n")
+    args = ["twoport", str(p), "--port-in", "in", "--port-out", "out,GND", "--load", "RL"]
+    assert main([*args, "--f-start", "10", "--f-stop", "100", "--points", "2"]) == 0
+    out = capsys.readouterr().out
+    assert "23.3333" in out and "40" in out  # Z_in = 10 + 40‖20, Z_out = 40 (input open)

@@ -317,20 +317,18 @@ def noise_density(
     )
 
 
-def _features(st: _Setup, lo: float, hi: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Natural frequencies (rad/s), per-source zeros (list) of the noise network; for a
-    network with a resistance law, the natural frequencies of the frozen network at each
-    decade (zeros empty)."""
+def _features(st: _Setup, lo: float, hi: float) -> tuple[np.ndarray, float]:
+    """Natural frequencies (rad/s) of the noise network and the reference ω_ref of their
+    eigenvalue problem; for a network with a resistance law, the natural frequencies of the
+    network frozen at each decade of [lo, hi] Hz."""
     system = st.system
     if law_fundamental(system) is None:
         a0, a1 = system.pencil()
-        poles, w_ref = finite_eigenvalues(a0, a1)
-        return poles, np.array([w_ref]), np.zeros(0)
-    decades = np.geomspace(
-        max(lo, 1e-3), hi, max(2, math.ceil(math.log10(hi / max(lo, 1e-3))) + 1)
-    )
+        return finite_eigenvalues(a0, a1)
+    n_dec = max(2, math.ceil(math.log10(hi / lo)) + 1)
+    decades = np.exp(np.linspace(math.log(lo), math.log(hi), n_dec))
     lam = [finite_eigenvalues(*frozen_pencil(system, float(fc)))[0] for fc in decades]
-    return np.concatenate(lam), np.array([1.0]), np.zeros(0)
+    return np.concatenate(lam), 1.0
 
 
 def _degrees(st: _Setup, poles: np.ndarray, w_ref: float) -> tuple[np.ndarray, np.ndarray, float]:
@@ -415,8 +413,7 @@ def noise_rms(
             f_stop,
             "a resistance law has no high-frequency limit: give a finite f_stop",
         )
-    poles, w_ref_arr, _ = _features(st, lo if lo > 0 else 1e-3, hi if not infinite else 1e12)
-    w_ref = float(w_ref_arr[0])
+    poles, w_ref = _features(st, max(lo, 1e-3), hi if not infinite else 1e12)
     f_hi = math.inf
     if law is None and (infinite or lo == 0):
         inf_order, zero_order, top = _degrees(st, poles, w_ref)
@@ -459,7 +456,6 @@ def noise_rms(
     bp = bp[np.isfinite(bp) & (bp > 0)]
     top_log = min(hi, f_hi)
     start_log = lo
-    pieces: list[np.ndarray] = []
 
     def fun_log(u: np.ndarray) -> np.ndarray:
         f = np.exp(u)
@@ -486,7 +482,6 @@ def noise_rms(
                 ]
             )
         )
-        pieces.append(edges)
         val, e = adaptive_integral(fun_log, edges, rtol)
         totals += val.sum(axis=0)
         err += e
