@@ -18,6 +18,8 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 import xlfuncs.studies.transfer
 from xlfuncs.cli import main
@@ -248,3 +250,34 @@ def test_cli_twoport(capsys, tmp_path):
     assert main([*args, "--f-start", "10", "--f-stop", "100", "--points", "2"]) == 0
     out = capsys.readouterr().out
     assert "23.3333" in out and "40" in out  # Z_in = 10 + 40‖20, Z_out = 40 (input open)
+
+
+@settings(max_examples=25, deadline=None)
+@given(
+    st.lists(st.floats(0.1, 10.0), min_size=12, max_size=12),
+    st.sampled_from(["n2", "C2", "L1", "G"]),
+    st.floats(10.0, 1e4),
+)
+def test_exact_group_delay_matches_central_differences(vals, output, f):
+    # random network with coupled coils and a controlled source; the reference is the
+    # phase of the solved response differenced at f(1 ± 1e-6) (independent of the
+    # derivative formula; truncation error ~1e-12 relative)
+    v = vals
+    parts = [
+        ["name", "kind", "from", "to", "value", "ctrl_from", "ctrl_to", "coil_a", "coil_b"],
+        ["R1", "R", "in", "n1", 10 * v[0], None, None, None, None],
+        ["L1", "L", "n1", "n2", 1e-3 * v[1], None, None, None, None],
+        ["C1", "C", "n1", "GND", 1e-6 * v[2], None, None, None, None],
+        ["L2", "L", "n2", "GND", 1e-3 * v[3], None, None, None, None],
+        ["K", "COUPLING", None, None, 0.05 * v[4], None, None, "L1", "L2"],
+        ["C2", "C", "n2", "n3", 1e-6 * v[5], None, None, None, None],
+        ["R3", "R", "n3", "GND", 10 * v[6], None, None, None, None],
+        ["G", "VCCS", "n3", "GND", 1e-3 * v[7], "n1", "GND", None, None],
+        ["R4", "R", "n2", "GND", 100 * v[8], None, None, None, None],
+    ]
+    h = 1e-6
+    fs = [f * (1 - h), f, f * (1 + h)]
+    q = "I" if output in ("C2", "L1", "G") else None
+    r = frequency_response(parts, RC_SOURCES, "Vin", output, fs, q)
+    dphi = np.angle(r.h[2] / r.h[0]) / (2 * np.pi * f * 2 * h)
+    assert r.group_delay_s[1] == pytest.approx(-dphi, rel=1e-5, abs=1e-12 / f)
