@@ -61,7 +61,9 @@ def main() -> int:
     print(f"Output noise 1 Hz – {FS / 2:g} Hz at 25 °C: {nz.rms_v * 1e6:.3f} µV rms")
     for c in nz.contributions[:5]:
         print(f"  {c.name:8s} ({c.kind})  {c.rms_v * 1e6:7.3f} µV rms  {100 * c.share:5.1f} %")
-    print(f"  dynamic range against full scale: {20 * math.log10(FULL_SCALE_RMS / nz.rms_v):.1f} dB")
+    print(
+        f"  dynamic range against full scale: {20 * math.log10(FULL_SCALE_RMS / nz.rms_v):.1f} dB"
+    )
     print()
     print("Screening calculation: check against the built channel's measured response.")
     return 0
