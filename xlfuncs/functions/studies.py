@@ -54,9 +54,9 @@ register_args(
         "max_order": ("Optional highest harmonic order (default 25).", {}),
         "phase_deg": ("Optional phase of every harmonic tone, degrees (default 0).", {}),
         "spectrum": (
-            "Optional two-column range order | percent of I1 (a measured or maker's spectrum); "
-            "replaces the ideal I1/h law.",
-            {"ndim": 2},
+            "Two-column range order | pct (percent of I1, order 1 = 100) with its header row: "
+            "a measured or maker's spectrum. Optional in CKT_DRIVE (replaces the ideal I1/h law).",
+            {"ndim": 2, "err_to_str": True},
         ),
         "metric": (
             "Optional result: rms (default), peak, peak_sum, thd, dc, power, var_sum or "
