@@ -30,12 +30,12 @@ def test_a_subharmonic_is_not_taken_for_the_fundamental():
     s = _tones((25.0, 0.02), (50.0, 1.0), (250.0, 0.1), (350.0, 0.05))
     sol = xlfuncs.solve(P, s)
     with pytest.raises(InputError) as exc:
-        sol.voltage("a").thd()
+        sol.voltage("a").thd_result()
     msg = str(exc.value)
     assert msg.startswith("options, column fundamental_hz — THD of V(a): no fundamental_hz")
     assert "the lowest tone (25 Hz) is not the largest (50 Hz is)" in msg
     sol50 = xlfuncs.solve(P, s, [["fundamental_hz", 50]])
-    r = sol50.voltage("a").thd()
+    r = sol50.voltage("a").thd_result()
     assert isinstance(r, ThdResult) and not r.assumed and r.fundamental_hz == 50.0
     assert float(r) == pytest.approx(math.hypot(0.1, 0.05), rel=1e-12)  # 0.1118
     assert "from fundamental_hz" in r.basis and "2…50 of 50 Hz" in r.basis
@@ -43,7 +43,7 @@ def test_a_subharmonic_is_not_taken_for_the_fundamental():
 
 def test_the_documented_rule_says_when_it_assumed():
     s = _tones((50.0, 1.0), (250.0, 0.1), (350.0, 0.05))
-    r = xlfuncs.solve(P, s).voltage("a").thd()
+    r = xlfuncs.solve(P, s).voltage("a").thd_result()
     assert r.assumed and r.fundamental_hz == 50.0
     assert float(r) == pytest.approx(math.hypot(0.1, 0.05), rel=1e-12)
     assert "assumed: the lowest tone, also the largest" in r.basis
@@ -53,8 +53,8 @@ def test_the_documented_rule_says_when_it_assumed():
 def test_a_resonant_harmonic_larger_than_the_fundamental_is_refused_without_f1():
     s = _tones((50.0, 1.0), (250.0, 1.5))
     with pytest.raises(InputError, match=r"lowest tone \(50 Hz\) is not the largest \(250 Hz"):
-        xlfuncs.solve(P, s).voltage("a").thd()
-    r = xlfuncs.solve(P, s, [["fundamental_hz", 50]]).voltage("a").thd()
+        xlfuncs.solve(P, s).voltage("a").thd_result()
+    r = xlfuncs.solve(P, s, [["fundamental_hz", 50]]).voltage("a").thd_result()
     assert float(r) == pytest.approx(1.5, rel=1e-12)
 
 
@@ -63,7 +63,7 @@ def test_thd_with_a_zero_fundamental_is_refused_not_infinite():
     with pytest.raises(
         InputError, match=r"THD is undefined: the signal is zero at the fundamental"
     ):
-        sp.thd()
+        sp.thd_result()
     cache_clear()
     # a 150 Hz source only, fundamental 50 Hz: no tone at the fundamental at all
     out = FUNCTIONS["CKT_THD"].call(P, _tones((150.0, 1.0)), "a", None, [["fundamental_hz", 50]])

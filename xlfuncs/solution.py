@@ -9,7 +9,7 @@ Conventions (IEEE Std 1459-2010 for non-sinusoidal quantities):
 * RMS of one tone: |X|/√2 for AC, |X| for DC; total RMS = √(Σ rms_k²).
 * Average power: Σ over frequencies of V·I at DC and ½·Re(V·I*) for AC (products of
   different frequencies average to zero over a common period).
-* THD (basis stated in :meth:`Spectrum.thd` and carried by its result): √(Σ_{h=2..H}
+* THD (basis stated in :meth:`Spectrum.thd_result` and carried by it): √(Σ_{h=2..H}
   |X_h|²) / |X_1| over integer harmonics h of the fundamental, DC and interharmonics
   excluded, H = 50 by default (the range IEEE Std 519-2014 uses).
 * True peak: sup |x(t)|, see :func:`true_peak` for the three methods and their accuracy.
@@ -512,7 +512,8 @@ def _reached(
 # ---------------------------------------------------------------------------------- THD
 @dataclass(frozen=True)
 class ThdResult:
-    """Result of :meth:`Spectrum.thd`; converts to a float (``float(r)``) or an array.
+    """Result of :meth:`Spectrum.thd_result`; converts to a float (``float(r)``) or an
+    array.
 
     Attributes
     ----------
@@ -675,6 +676,17 @@ class Spectrum:
         return float(self.freqs_hz[i1]), True
 
     def thd(
+        self,
+        fundamental_hz: float | None = None,
+        max_order: int | None = None,
+        reference: float | None = None,
+    ) -> np.ndarray | float:
+        """Total harmonic distortion as a fraction (0.05 = 5 %): the value of
+        :meth:`thd_result`, which also says which fundamental was used."""
+        value: np.ndarray | float = self.thd_result(fundamental_hz, max_order, reference).value
+        return value
+
+    def thd_result(
         self,
         fundamental_hz: float | None = None,
         max_order: int | None = None,

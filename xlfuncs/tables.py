@@ -183,7 +183,7 @@ class Options:
         Fundamental for ``harmonic`` source rows, resistance laws (``r_exponent``) and
         THD. When None, ``harmonic`` rows and ``r_exponent`` are refused, and THD assumes
         the lowest source frequency only where that tone is the signal's largest (see
-        :meth:`xlfuncs.Spectrum.thd`).
+        :meth:`xlfuncs.Spectrum.thd_result`).
     thd_max_order : int
         Highest harmonic order counted in THD (IEEE 519-2014 counts up to 50).
     """
