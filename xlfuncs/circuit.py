@@ -356,9 +356,10 @@ def _group_sources(
             tones: tuple[tuple[float, complex], ...] = ((r0.freq_hz, r0.phasor),)
         else:  # tones of one source at one frequency add as phasors
             uniq, group = group_frequencies([r.freq_hz for r in rows])
-            sums = np.zeros(uniq.size, dtype=complex)
-            np.add.at(sums, group, [r.phasor for r in rows])
-            tones = tuple(zip(uniq.tolist(), sums.tolist(), strict=True))
+            sums = [0j] * uniq.size
+            for g, r in zip(group.tolist(), rows, strict=True):
+                sums[g] += r.phasor
+            tones = tuple(zip(uniq.tolist(), sums, strict=True))
         out.append(
             Source(
                 name=r0.name,
