@@ -1,0 +1,189 @@
+"""Latency where the user waits: figures and ratios, never pass/fail.
+
+(a) every worksheet function, called as both front ends call it (the registered callable):
+    median of uncached calls (every cache cleared before each call) and of cache hits
+    (identical arguments again), with the ratio hit / uncached; targets: uncached
+    ``CKT_SOLVE`` <= 1 ms, every cache hit <= 0.1 ms. The case is a 30-part, 10-tone
+    network (demo data). Baseline for the uncached solve: bare ``numpy.linalg.solve`` on the
+    same stacked (F, n, n) matrices, timed in the same run.
+(b) import time in a fresh interpreter (median of several runs, interleaved):
+    ``import xlfuncs.worksheet`` against ``import numpy`` (target ratio <= 1.3), and what
+    ours adds when numpy and xlwings are already loaded (as in the add-in's UDF server).
+
+Run: ``make bench`` or ``python benchmarks/bench_latency.py``. The machine is shared, so
+compare ratios rather than absolute times.
+"""
+
+from __future__ import annotations
+
+import statistics
+import subprocess
+import sys
+import time
+from collections.abc import Callable
+from typing import Any
+
+import numpy as np
+
+from xlfuncs.functions import FUNCTIONS, cache_clear
+
+
+def network() -> tuple[list[list[Any]], list[list[Any]], list[list[Any]]]:
+    """30 parts (an R-C ladder with inductive cross links, 5 % tolerances on the
+    resistors), a 50 Hz supply and nine harmonic current tones: demo data."""
+    rng = np.random.default_rng(2)
+    parts: list[list[Any]] = [["name", "kind", "from", "to", "value", "tolerance"]]
+    nodes = [f"n{i}" for i in range(12)]
+    for i, nd in enumerate(nodes):
+        prev = "GND" if i == 0 else nodes[i - 1]
+        parts.append([f"R{i}", "R", prev, nd, float(rng.uniform(0.1, 10)), "5%"])
+        parts.append([f"C{i}", "C", nd, "GND", float(rng.uniform(1e-6, 1e-4)), None])
+        j = int(rng.integers(0, 12))
+        if j != i:
+            parts.append([f"L{i}", "L", nd, nodes[j], float(rng.uniform(1e-4, 1e-2)), None])
+    parts = parts[:31]  # header + 30 parts
+    sources: list[list[Any]] = [["name", "kind", "from", "to", "harmonic", "rms", "phase_deg"]]
+    sources.append(["Vs", "V", "n0", "GND", 1.0, 230.0, 0.0])
+    for h in (5, 7, 11, 13, 17, 19, 23, 25, 29):
+        sources.append(["Ih", "I", "GND", "n5", float(h), 100.0 / h, 0.0])
+    options: list[list[Any]] = [["fundamental_hz", 50.0]]
+    return parts, sources, options
+
+
+def cases() -> dict[str, tuple[Any, ...]]:
+    p, s, o = network()
+    return {
+        "CKT_SOLVE": (p, s, "n5", None, o),
+        "CKT_RMS": (p, s, "n5", None, o),
+        "CKT_PEAK": (p, s, "n5", None, o),
+        "CKT_THD": (p, s, "n5", None, o),
+        "CKT_DC": (p, s, "n5", None, o),
+        "CKT_CREST": (p, s, "n5", None, o),
+        "CKT_POWER": (p, s, "R3", o),
+        "CKT_REPORT": (p, s, o),
+        "CKT_NODES": (p, s, o),
+        "CKT_WAVE": (p, s, "n5", None, None, o),
+        "CKT_SCAN": (p, "n5", 10.0, 5000.0, None, o, s),
+        "CKT_IMPEDANCE": (p, "n5", [[250.0, 350.0, 550.0]], o, s),
+        "CKT_RESONANCES": (p, "n5", 10.0, 5000.0, None, o, s),
+        "CKT_V519": (p, s, "n5", 0.48, o),
+        "CKT_I519": (p, s, "R3", 10000.0, 100.0, 0.48, None, o),
+        "CKT_V519_LIMITS": (0.48,),
+        "CKT_I519_LIMIT": (11.0, 75.0),
+        "CKT_CAPDUTY": (p, s, "C3", 50.0, 400.0, o),
+        "CKT_DETUNE": (80.0, 525.0, 50.0, 0.07),
+        "CKT_DRIVE": ("Id", "GND", "n5", 100.0),
+        "CKT_TOLERANCE": (p, s, "n5", "rms", 2000.0, None, o),
+        "CKT_VERSION": (),
+    }
+
+
+def median_time(fn: Callable[[], Any], before: Callable[[], Any] | None, budget_s: float) -> float:
+    """Median duration of ``fn`` (``before`` runs untimed ahead of each call), repeated
+    until ``budget_s`` is spent (at least 5, at most 2000 runs)."""
+    times: list[float] = []
+    spent = 0.0
+    while len(times) < 5 or (spent < budget_s and len(times) < 2000):
+        if before is not None:
+            before()
+        t0 = time.perf_counter()
+        fn()
+        dt = time.perf_counter() - t0
+        times.append(dt)
+        spent += dt
+    return statistics.median(times)
+
+
+def bench_functions() -> None:
+    table = cases()
+    print("(a) worksheet functions: uncached and cache-hit medians (ms); ratio hit/uncached")
+    print(f"    {'function':16s} {'uncached':>10s} {'hit':>10s} {'ratio':>8s}")
+    slow_hits = []
+    for name in sorted(FUNCTIONS):
+        fd = FUNCTIONS[name]
+        if name not in table:
+            print(f"    {name:16s} (no latency case defined in this benchmark)")
+            continue
+        args = table[name]
+        cache_clear()
+        first = fd.call(*args)
+        if isinstance(first, str) and first.startswith("ERROR"):
+            print(f"    {name:16s} case refused: {first}")
+            continue
+        unc = median_time(lambda fd=fd, args=args: fd.call(*args), cache_clear, 0.5)
+        fd.call(*args)
+        hit = median_time(lambda fd=fd, args=args: fd.call(*args), None, 0.2)
+        if hit > 1e-4:
+            slow_hits.append(name)
+        print(f"    {name:16s} {unc * 1e3:10.3f} {hit * 1e3:10.4f} {hit / unc:8.4f}")
+    print(
+        "    cache hits above the 0.1 ms target: "
+        + (", ".join(slow_hits) if slow_hits else "none")
+    )
+
+
+def bench_solve_baseline() -> None:
+    import xlfuncs
+    from xlfuncs.api import system_of
+
+    p, s, o = network()
+    circuit = xlfuncs.Circuit.from_tables(p, s, o)
+    system = system_of(circuit)
+    f = circuit.freqs_hz
+    a = system.matrices(f)
+    b = np.zeros((f.size, system.n, 1), dtype=complex)
+    b[:, 0, 0] = 1.0
+    bare = median_time(lambda: np.linalg.solve(a, b), None, 0.3)
+    fd = FUNCTIONS["CKT_SOLVE"]
+    args = cases()["CKT_SOLVE"]
+    ours = median_time(lambda: fd.call(*args), cache_clear, 0.5)
+    print(
+        f"(a) uncached CKT_SOLVE {ours * 1e3:.3f} ms vs bare numpy.linalg.solve of the "
+        f"{f.size} stacked {system.n}x{system.n} systems {bare * 1e3:.3f} ms: ratio "
+        f"{ours / bare:.1f} (target: uncached <= 1 ms)"
+    )
+
+
+_TIMED_IMPORT = (
+    "import time; t = time.perf_counter(); import {mod}; print(time.perf_counter() - t)"
+)
+
+
+def _import_time(mod: str, preload: str = "") -> float:
+    code = (preload + "; " if preload else "") + _TIMED_IMPORT.format(mod=mod)
+    out = subprocess.run(
+        [sys.executable, "-c", code], capture_output=True, text=True, check=True
+    ).stdout
+    return float(out.split()[-1])
+
+
+def bench_import(runs: int = 9) -> None:
+    rows: dict[str, list[float]] = {"numpy": [], "worksheet": [], "ours": [], "xlwings": []}
+    for _ in range(runs):  # interleaved, so that load on the machine hits every figure
+        rows["numpy"].append(_import_time("numpy"))
+        rows["worksheet"].append(_import_time("xlfuncs.worksheet"))
+        rows["ours"].append(_import_time("xlfuncs.worksheet", "import numpy, xlwings"))
+        rows["xlwings"].append(_import_time("xlwings", "import numpy"))
+    m = {k: statistics.median(v) for k, v in rows.items()}
+    print(
+        f"(b) import in a fresh interpreter, median of {runs}: numpy {m['numpy'] * 1e3:.1f} ms | "
+        f"xlfuncs.worksheet {m['worksheet'] * 1e3:.1f} ms: ratio {m['worksheet'] / m['numpy']:.2f} "
+        "(target <= 1.3)"
+    )
+    print(
+        f"    of which xlwings (numpy loaded) {m['xlwings'] * 1e3:.1f} ms = "
+        f"{m['xlwings'] / m['numpy']:.2f} x numpy; xlfuncs.worksheet with numpy and xlwings "
+        f"loaded (the add-in's server) {m['ours'] * 1e3:.1f} ms = {m['ours'] / m['numpy']:.2f} "
+        "x numpy"
+    )
+
+
+def main() -> None:
+    print("xlfuncs latency benchmark (medians; figures, not tests)")
+    bench_functions()
+    bench_solve_baseline()
+    bench_import()
+
+
+if __name__ == "__main__":
+    main()
