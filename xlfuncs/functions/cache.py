@@ -2,13 +2,14 @@
 
 Identical inputs used by many cells are worked out once. Every key is the *content* of
 the arguments, cell by cell with each cell's type (so ``TRUE`` and ``1`` never share an
-entry), so an edit to any input can never return a stale result. Three layers:
+entry), so an edit to any input can never return a stale result. The layers:
 
 * results: each function's final value (the rendered table or number, or its one-line
   refusal) per argument list — a repeated call costs one key and one lookup;
 * circuits: the parsed :class:`~xlfuncs.circuit.Circuit` per (parts, sources, options);
 * solutions: the solved :class:`~xlfuncs.solution.Solution` per (parts, sources,
-  options), shared by every function and target on the same tables.
+  options), shared by every function and target on the same tables;
+* scans: impedance tables per (parts, node, frequencies, options, sources).
 
 Refusals are cached as well as successes: a table that fails to parse is parsed once,
 however many formulas use it. Only refusals of the input (:class:`XlfuncsError`) are

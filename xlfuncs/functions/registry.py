@@ -3,8 +3,11 @@
 A domain module (``core``, ``studies``, …) declares each function once with
 :func:`sheet_function`: its dialog texts, its arguments' descriptions (from :data:`ARGS`)
 and whether Excel may run it while the user types in the function dialog. The registry
-keeps the guarded callable (every failure becomes one line of text for the cell) and its
-documentation; nothing here imports Excel or xlwings. ``xlfuncs.worksheet`` decorates the
+keeps the guarded callable and its documentation; nothing here imports Excel or xlwings.
+The guarded callable is the same for every front end: it completes left-out arguments
+with None, answers a repeated call from the content-keyed cache, refuses error cells
+(naming table, row, column and error) before anything is parsed, refuses a non-finite
+result, and turns every failure into one line of text for the cell. ``xlfuncs.worksheet`` decorates the
 registered callables for xlwings, the headless engine registers them with the formula
 engine, and ``xlfuncs.docgen`` writes the function reference from the same records.
 """
@@ -180,6 +183,28 @@ def _column(columns: tuple[str, ...] | None, rows: Any, r: int, c: int) -> str:
     return str(c + 1)
 
 
+def _first_error(rows: Any) -> tuple[int, int, str] | None:
+    """(row, column, error) of the first error cell of a range, 0-based, or None."""
+    for r, row in enumerate(rows):
+        cells = row if isinstance(row, (list, tuple)) else (row,)
+        for c, cell in enumerate(cells):
+            err = excel_error(cell)
+            if err is not None:
+                return r, c, err
+    return None
+
+
+def _has_error(rows: Any) -> bool:
+    for row in rows:
+        for cell in row if isinstance(row, (list, tuple)) else (row,):
+            t = type(cell)
+            if t is float or cell is None or (t is str and "#" not in cell):
+                continue  # the common cells, decided without a call
+            if excel_error(cell) is not None:
+                return True
+    return False
+
+
 def refuse_error_cells(fd: FunctionDoc, args: tuple[Any, ...]) -> None:
     """Raise :class:`InputError` for the first argument cell that holds an Excel error,
     naming the table (the argument), the row as the user counts it (the range's first
@@ -187,23 +212,16 @@ def refuse_error_cells(fd: FunctionDoc, args: tuple[Any, ...]) -> None:
     error. Error cells must never pass for blanks or values."""
     for i, a in enumerate(args):
         name = fd.args[i][0] if i < len(fd.args) else f"argument {i + 1}"
-        is_range = i < len(fd.ranges) and fd.ranges[i]
+        cols = fd.columns[i] if i < len(fd.columns) else None
         if isinstance(a, (list, tuple)):
-            for r, row in enumerate(a):
-                cells = row if isinstance(row, (list, tuple)) else (row,)
-                for c, cell in enumerate(cells):
-                    if type(cell) is float or cell is None:
-                        continue
-                    err = excel_error(cell)
-                    if err is not None:
-                        cols = fd.columns[i] if i < len(fd.columns) else None
-                        raise InputError(name, r + 1, _column(cols, a, r, c), err, _ERROR_CELL)
+            if _has_error(a):
+                r, c, err = _first_error(a)  # type: ignore[misc]
+                raise InputError(name, r + 1, _column(cols, a, r, c), err, _ERROR_CELL)
             continue
         err = excel_error(a)
         if err is None:
             continue
-        if is_range:  # a single cell given for a range
-            cols = fd.columns[i] if i < len(fd.columns) else None
+        if i < len(fd.ranges) and fd.ranges[i]:  # a single cell given for a range
             raise InputError(name, 1, _column(cols, [[a]], 0, 0), err, _ERROR_CELL)
         raise InputError("argument", None, name, err, _ERROR_CELL)
 
