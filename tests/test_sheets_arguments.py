@@ -206,13 +206,13 @@ def test_range_messages(name, args, message):
 
 def test_spectrum_cells_are_checked_where_the_user_sees_them():
     call = FUNCTIONS["CKT_DRIVE"].call
-    head = ["order", "percent"]
-    assert call("Id", "GND", "bus", 100.0, None, None, None, [head, [5.0, True]]) == (
-        "ERROR: spectrum row 2, column percent: True — expected a number"
+    head = ["order", "pct"]
+    assert call("Id", "GND", "bus", 100.0, None, None, None, [head, [1, 100], [5.0, True]]) == (
+        "ERROR: spectrum row 3, column pct: True — expected a percentage of I1 (a number ≥ 0)"
     )
-    assert call("Id", "GND", "bus", 100.0, None, None, None, [[5.0, 20.0], [5.0, 3.0]]) == (
-        "ERROR: spectrum row 2, column order: 5.0 — this order is given twice (rows 1 and 2)"
+    assert call("Id", "GND", "bus", 100.0, None, None, None, [head, [1, 100], [1e9, 3]]) == (
+        "ERROR: spectrum, column order: 1000000000.0 — expected orders up to 200"
     )
-    assert call("Id", "GND", "bus", 100.0, None, None, None, [head, [None, None], [1e9, 3]]) == (
-        "ERROR: spectrum row 3, column order: 1000000000.0 — expected an order > 1 and ≤ 200"
+    assert call("Id", "GND", "bus", 100.0, None, None, None, [head, [1, 100]]) == (
+        "ERROR: spectrum, column order — no harmonic above order 1"
     )

@@ -42,6 +42,17 @@ EXPECTED = [  # the names the product promises (issue: worksheet functions)
     "CKT_DRIVE",
     "CKT_TOLERANCE",
     "CKT_IMPEDANCE",
+    # equipment duty
+    "CKT_POWERS",
+    "CKT_XFMR_DERATE",
+    "CKT_TUNED_FILTER",
+    "CKT_HIGHPASS_FILTER",
+    "CKT_FILTER_DRIFT",
+    "CKT_FILTER_RESONANCE",
+    "CKT_FILTER_RATING",
+    "CKT_CAP_STEP",
+    "CKT_CABLE_RAC",
+    "CKT_CABLE_LOSS",
 ]
 
 # VBA keywords that cannot name an argument. [MS-VBAL] VBA Language Specification,
@@ -464,8 +475,15 @@ def test_drive_table_feeds_back_into_thd(udf):
 
 
 def test_drive_with_a_measured_spectrum(udf):
-    # maker's spectrum (demo data), order | percent of I1; I_h = I1 · percent / 100
-    spectrum = (("order", "percent"), (5.0, 30.0), (7.0, 12.0), (None, None), (11.0, 6.0))
+    # maker's spectrum (demo data), order | pct of I1 (order 1 = 100); I_h = I1 · pct / 100
+    spectrum = (
+        ("order", "pct"),
+        (1.0, 100.0),
+        (5.0, 30.0),
+        (7.0, 12.0),
+        (None, None),
+        (11.0, 6.0),
+    )
     src = call(udf, "CKT_DRIVE", "Id", "GND", "bus", 100.0, MISSING, MISSING, MISSING, spectrum)
     if src[0][0].startswith("ERROR: internal error UnboundLocalError"):
         pytest.xfail("studies/drives.py cannot read a spectrum yet (semantics stream)")

@@ -164,12 +164,24 @@ def choice_arg(value: Any, column: str, choices: Collection[int], default: int) 
 
 
 def points_arg(
-    value: Any, column: str = "points", *, lo: int = 2, hi: int = 100_000
+    value: Any, column: str = "points", *, lo: int | None = None, hi: int | None = None
 ) -> int | None:
-    """A whole count from ``lo`` to ``hi``, or None when not given (the function's default)."""
+    """A whole count (from ``lo`` to ``hi`` when both are given), or None when not given
+    (the function's default)."""
     if not _given(value):
         return None
-    return whole_arg(value, column, lo=lo, hi=hi)
+    if lo is None or hi is None:
+        if (
+            isinstance(value, bool)
+            or not isinstance(value, (int, float))
+            or not math.isfinite(value)
+            or not float(value).is_integer()
+        ):
+            raise InputError("argument", None, column, value, "expected a whole number")
+        return int(value)
+    return whole_arg(
+        value, column, lo=-(2**63) if lo is None else lo, hi=2**63 if hi is None else hi
+    )
 
 
 def freq_arg(value: Any, column: str, *, dc: bool = False) -> float:

@@ -199,7 +199,7 @@ def CKT_NODES(parts, sources, options=None):
 def CKT_WAVE(parts, sources, target, quantity=None, points=None, options=None):
     from ..views import wave_table
 
-    n = points_arg(points)
+    n = points_arg(points, lo=2, hi=100_000)
     sol = solution(parts, sources, options)
     return wave_table(sol, name_arg(target, "target"), quantity_arg(quantity), n)
 
@@ -227,7 +227,7 @@ def CKT_SCAN(
     f1 = freq_arg(f_stop, "f_stop")
     if not f1 > f0:
         raise InputError("argument", None, "f_stop", f_stop, "expected a frequency > f_start")
-    f = scan_freqs(f0, f1, points_arg(points))
+    f = scan_freqs(f0, f1, points_arg(points, lo=2, hi=100_000))
     return scan(parts, name_arg(node, "node"), tuple(f.tolist()), options, sources)
 
 

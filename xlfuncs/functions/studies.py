@@ -3,7 +3,6 @@ tolerance."""
 
 from __future__ import annotations
 
-import math
 from typing import Any
 
 from ..errors import InputError
@@ -74,9 +73,9 @@ register_args(
         "max_order": ("Optional highest harmonic order (default 25).", {}),
         "phase_deg": ("Optional phase of every harmonic tone, degrees (default 0).", {}),
         "spectrum": (
-            "Optional two-column range order | percent of I1 (a measured or maker's spectrum); "
-            "replaces the ideal I1/h law.",
-            {"ndim": 2, "columns": ("order", "percent")},
+            "Two-column range order | pct (percent of I1, order 1 = 100) with its header row: "
+            "a measured or maker's spectrum. Optional in CKT_DRIVE (replaces the ideal I1/h law).",
+            {"ndim": 2, "err_to_str": True},
         ),
         "metric": (
             "Optional result: rms (default), peak, peak_sum, thd, dc, power, var_sum or "
@@ -231,46 +230,25 @@ def CKT_DETUNE(kvar, volts, fundamental_hz, p_or_order):
 
 
 def _spectrum(spectrum: Any) -> list[tuple[float, float]] | None:
-    """order | percent rows of a measured spectrum (an optional header row first)."""
+    """The harmonics of a measured spectrum (order | pct with its header row, order 1 =
+    100, read as every function reads a ``spectrum``), above the fundamental."""
     if spectrum is None:
         return None
-    rows = spectrum if isinstance(spectrum, (list, tuple)) else [[spectrum]]
-    spec: list[tuple[float, float]] = []
-    first: dict[float, int] = {}
-    for k, row in enumerate(rows):
-        cells = list(row) if isinstance(row, (list, tuple)) else [row]
-        if all(c is None or c == "" for c in cells):
-            continue
-        if len(cells) < 2:
-            raise InputError(
-                "spectrum", k + 1, None, cells, "expected two columns: order, percent"
-            )
-        h, pct = cells[0], cells[1]
-        numbers = [not isinstance(c, bool) and isinstance(c, (int, float)) for c in (h, pct)]
-        if k == 0 and not any(numbers):
-            continue  # a header row
-        for col, c, ok in (("order", h, numbers[0]), ("percent", pct, numbers[1])):
-            if not ok:
-                raise InputError("spectrum", k + 1, col, c, "expected a number")
-        if not (math.isfinite(h) and 1 < h <= 200):
-            raise InputError("spectrum", k + 1, "order", h, "expected an order > 1 and ≤ 200")
-        if not (math.isfinite(pct) and 0 <= pct <= 1000):
-            raise InputError(
-                "spectrum", k + 1, "percent", pct, "expected a percentage from 0 to 1000"
-            )
-        if float(h) in first:
-            raise InputError(
-                "spectrum",
-                k + 1,
-                "order",
-                h,
-                f"this order is given twice (rows {first[float(h)]} and {k + 1})",
-            )
-        first[float(h)] = k + 1
-        spec.append((float(h), float(pct)))
-    if not spec:
-        raise InputError("spectrum", None, None, expected="no order | percent rows")
-    return spec
+    from ..studies.transformer import read_harmonic_spectrum
+
+    orders, pct = read_harmonic_spectrum(spectrum, "spectrum", 1.0)
+    out = []
+    for h, p in zip(orders.tolist(), pct.tolist(), strict=True):
+        if h <= 1.0 + 1e-9:
+            continue  # the fundamental is i1_rms itself
+        if h > 200:
+            raise InputError("spectrum", None, "order", h, "expected orders up to 200")
+        if p > 1000:
+            raise InputError("spectrum", None, "pct", p, "expected at most 1000 % of I1")
+        out.append((h, p))
+    if not out:
+        raise InputError("spectrum", None, "order", expected="no harmonic above order 1")
+    return out
 
 
 @sheet_function(

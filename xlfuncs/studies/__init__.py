@@ -1,9 +1,33 @@
 """Studies built on the core solver: resonances, IEEE 519 limits, IEEE 18 capacitor duty,
-detuning reactors, converter spectra and tolerance spreads."""
+detuning reactors, converter spectra, tolerance spreads, IEEE 1459 power quantities,
+transformer derating (IEEE C57.110), harmonic filters and cable losses at harmonics."""
 
+from .cables import (
+    ARRANGEMENTS,
+    CableLoss,
+    CableResistance,
+    cable_ac_resistance,
+    cable_harmonic_loss,
+    skin_effect_factor,
+)
 from .capacitor import IEEE18_LIMITS, CapacitorDuty, capacitor_duty
 from .detuning import Detuning, detuning
 from .drives import characteristic_orders, drive_sources
+from .filters import (
+    CapacitorStep,
+    FilterDesign,
+    FilterRating,
+    SupplyResonance,
+    TuningDrift,
+    capacitor_bank,
+    capacitor_steps,
+    filter_rating,
+    filter_resonance,
+    highpass_filter,
+    read_order_amps,
+    tuned_filter,
+    tuning_drift,
+)
 from .limits import (
     CurrentCheck,
     VoltageCheck,
@@ -13,28 +37,65 @@ from .limits import (
     tdd_limit_pct,
     voltage_limits_pct,
 )
+from .powers import POWER_ROWS, WIRINGS, PowerQuantities, port_powers, power_quantities
 from .resonance import Resonance, find_resonances, resonance_order_rule
 from .tolerance import METRICS, ToleranceResult, tolerance_study
+from .transformer import (
+    TransformerDerating,
+    harmonic_loss_factor,
+    k_factor,
+    read_harmonic_spectrum,
+    transformer_derating,
+)
 
 __all__ = [
+    "ARRANGEMENTS",
     "IEEE18_LIMITS",
     "METRICS",
+    "POWER_ROWS",
+    "WIRINGS",
+    "CableLoss",
+    "CableResistance",
     "CapacitorDuty",
+    "CapacitorStep",
     "CurrentCheck",
     "Detuning",
+    "FilterDesign",
+    "FilterRating",
+    "PowerQuantities",
     "Resonance",
+    "SupplyResonance",
     "ToleranceResult",
+    "TransformerDerating",
+    "TuningDrift",
     "VoltageCheck",
+    "cable_ac_resistance",
+    "cable_harmonic_loss",
+    "capacitor_bank",
     "capacitor_duty",
+    "capacitor_steps",
     "characteristic_orders",
     "check_current",
     "check_voltage",
     "current_limit_pct",
     "detuning",
     "drive_sources",
+    "filter_rating",
+    "filter_resonance",
     "find_resonances",
+    "harmonic_loss_factor",
+    "highpass_filter",
+    "k_factor",
+    "port_powers",
+    "power_quantities",
+    "read_harmonic_spectrum",
+    "read_order_amps",
     "resonance_order_rule",
+    "skin_effect_factor",
     "tdd_limit_pct",
     "tolerance_study",
+    "transformer_derating",
+    "tuned_filter",
+    "tuning_drift",
     "voltage_limits_pct",
 ]
