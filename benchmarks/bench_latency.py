@@ -55,6 +55,7 @@ def network() -> tuple[list[list[Any]], list[list[Any]], list[list[Any]]]:
 
 def cases() -> dict[str, tuple[Any, ...]]:
     p, s, o = network()
+    spectrum = [["order", "pct"], [1.0, 100.0], [5.0, 20.0], [7.0, 14.0]]
     return {
         "CKT_SOLVE": (p, s, "n5", None, o),
         "CKT_RMS": (p, s, "n5", None, o),
@@ -78,6 +79,28 @@ def cases() -> dict[str, tuple[Any, ...]]:
         "CKT_DRIVE": ("Id", "GND", "n5", 100.0),
         "CKT_TOLERANCE": (p, s, "n5", "rms", 2000.0, None, o),
         "CKT_VERSION": (),
+        # equipment duty
+        "CKT_POWERS": (p, s, "R3", o),
+        "CKT_XFMR_DERATE": (spectrum, 0.1),
+        "CKT_TUNED_FILTER": (300.0, 480.0, 60.0, 3.0, 4.7, 50.0),
+        "CKT_HIGHPASS_FILTER": (300.0, 480.0, 60.0, 3.0, 4.7, 2.0),
+        "CKT_FILTER_DRIFT": (4.7, 60.0, 0.0, 0.1, 0.03),
+        "CKT_FILTER_RESONANCE": ("capacitor", 300.0, 480.0, 60.0, 3.0, 30.0, 10.0),
+        "CKT_FILTER_RATING": (
+            "tuned",
+            300.0,
+            480.0,
+            60.0,
+            3.0,
+            4.7,
+            50.0,
+            [["order", "amps"], [5.0, 100.0], [7.0, 20.0]],
+            400.0,
+            600.0,
+        ),
+        "CKT_CAP_STEP": (50.0, 8.0, 480.0, 60.0, 3.0, 30.0, 10.0, [[5.0, 100.0]], 0.3),
+        "CKT_CABLE_RAC": (0.0967, 50.0, [[1.0], [3.0], [5.0]], 1.0, 1.0, "3core", 18.0, 24.0),
+        "CKT_CABLE_LOSS": (spectrum, 0.0967, 50.0, 1.0, 1.0, "none"),
     }
 
 
