@@ -193,27 +193,32 @@ _SOLUTIONS = _Store(max_entries=64, max_cells=1_000_000)
 _SCANS = _Store(max_entries=64, max_cells=1_000_000)
 
 
-def circuit(parts: Any, sources: Any = None, options: Any = None) -> Circuit:
-    """The parsed circuit of these tables (cached by content, refusals too)."""
+def _circuit(key: Hashable, parts: Any, sources: Any, options: Any) -> Circuit:
     from ..circuit import Circuit
 
     return _memo(
         _CIRCUITS,
-        content_key((parts, sources, options)),
+        key,
         _cell_count(parts) + _cell_count(sources) + _cell_count(options),
         lambda: Circuit.from_tables(parts, sources, options),
     )
+
+
+def circuit(parts: Any, sources: Any = None, options: Any = None) -> Circuit:
+    """The parsed circuit of these tables (cached by content, refusals too)."""
+    return _circuit(content_key((parts, sources, options)), parts, sources, options)
 
 
 def solution(parts: Any, sources: Any, options: Any) -> Solution:
     """The solution of these tables at every source frequency (cached by content)."""
     from ..api import solve
 
+    key = content_key((parts, sources, options))  # the same key names the circuit
     return _memo(
         _SOLUTIONS,
-        content_key((parts, sources, options)),
+        key,
         _cell_count(parts) + _cell_count(sources) + _cell_count(options),
-        lambda: solve(circuit(parts, sources, options)),
+        lambda: solve(_circuit(key, parts, sources, options)),
     )
 
 
