@@ -53,6 +53,8 @@ EXPECTED = [  # the names the product promises (issue: worksheet functions)
     "CKT_CAP_STEP",
     "CKT_CABLE_RAC",
     "CKT_CABLE_LOSS",
+    *("CKT_BUS_HARMONICS", "CKT_BRANCH_HARMONICS", "CKT_NEUTRAL_HARMONICS", "CKT_EXPAND"),
+    *("CKT_BUS_V519", "CKT_BRANCH_I519", "CKT_ITEM_CAPDUTY", "CKT_BUS_SCAN", "CKT_BUS_RESONANCES"),
 ]
 
 # VBA keywords that cannot name an argument. [MS-VBAL] VBA Language Specification,
