@@ -54,8 +54,43 @@ def network() -> tuple[list[list[Any]], list[list[Any]], list[list[Any]]]:
     return parts, sources, options
 
 
+def plant() -> tuple[list[list[Any]], list[list[Any]], list[list[Any]]]:
+    """Equipment, spectra and study options of a small three-phase plant (demo data): a
+    13.8 kV supply, a Dyn11 transformer to 480 V, a capacitor bank and two converters."""
+    head = ["name", "kind", "bus", "bus_to", "kv", "mva_sc", "x_r", "kva", "kv_hv", "kv_lv"]
+    head += ["z_pct", "connection", "kvar", "kw", "pf", "pulses", "spectrum"]
+
+    def row(**kw: Any) -> list[Any]:
+        return [kw.get(h) for h in head]
+
+    equipment = [
+        head,
+        row(name="U1", kind="supply", bus="PCC", kv=13.8, mva_sc=200.0, x_r=10.0),
+        row(
+            name="T1",
+            kind="transformer",
+            bus="PCC",
+            bus_to="LV",
+            kva=1500.0,
+            kv_hv=13.8,
+            kv_lv=0.48,
+            z_pct=6.0,
+            x_r=7.0,
+            connection="Dyn11",
+        ),
+        row(name="C1", kind="capacitor", bus="LV", kv=0.48, kvar=300.0, connection="YN"),
+        row(name="D1", kind="converter", bus="LV", kv=0.48, kw=500.0, pf=0.93, spectrum="S"),
+        row(name="D2", kind="converter", bus="LV", kv=0.48, kw=300.0, pf=0.95, pulses=6.0),
+    ]
+    spectra = [["spectrum", "order", "pct", "phase_deg"], ["S", 5.0, 25.0, 0.0]]
+    spectra.append(["S", 7.0, 12.0, 180.0])
+    options = [["key", "value"], ["fundamental_hz", 60.0], ["max_order", 25.0]]
+    return equipment, spectra, options
+
+
 def cases() -> dict[str, tuple[Any, ...]]:
     p, s, o = network()
+    eq, sp, so = plant()
     spectrum = [["order", "pct"], [1.0, 100.0], [5.0, 20.0], [7.0, 14.0]]
     return {
         "CKT_SOLVE": (p, s, "n5", None, o),
@@ -102,6 +137,16 @@ def cases() -> dict[str, tuple[Any, ...]]:
         "CKT_CAP_STEP": (50.0, 8.0, 480.0, 60.0, 3.0, 30.0, 10.0, [[5.0, 100.0]], 0.3),
         "CKT_CABLE_RAC": (0.0967, 50.0, [[1.0], [3.0], [5.0]], 1.0, 1.0, "3core", 18.0, 24.0),
         "CKT_CABLE_LOSS": (spectrum, 0.0967, 50.0, 1.0, 1.0, "none"),
+        # three-phase studies from equipment ratings
+        "CKT_BUS_HARMONICS": (eq, sp, "LV", so),
+        "CKT_BRANCH_HARMONICS": (eq, sp, "T1", so),
+        "CKT_NEUTRAL_HARMONICS": (eq, sp, "T1", so),
+        "CKT_EXPAND": (eq, "+", so),
+        "CKT_BUS_V519": (eq, sp, "PCC", so),
+        "CKT_BRANCH_I519": (eq, sp, "U1", 8000.0, 50.0, so),
+        "CKT_ITEM_CAPDUTY": (eq, sp, "C1", so),
+        "CKT_BUS_SCAN": (eq, "LV", 60.0, 3000.0, 20.0, "+", so),
+        "CKT_BUS_RESONANCES": (eq, "LV", 60.0, 3000.0, None, None, so),
     }
 
 

@@ -28,7 +28,7 @@ SOURCES = [
 ]
 OPTIONS = [["fundamental_hz", 50.0]]
 RMS_OUT = 0.75 * math.sqrt((4.0**2 + 1.0**2) / 2)  # sqrt(Σ (peak/√2)²), IEEE Std 1459-2010
-ERROR_CELL = "an Excel error, not a value: correct the cell or what it refers to"
+ERROR_CELL = "the cell holds an Excel error"
 
 
 @pytest.fixture(scope="module")

@@ -99,7 +99,7 @@ _CVERR = {
     2049: "#FIELD!",
     2050: "#CALC!",
 }
-_ERROR_CELL = "an Excel error, not a value: correct the cell or what it refers to"
+_ERROR_CELL = "the cell holds an Excel error"
 
 
 def register_args(entries: dict[str, tuple[str, dict[str, Any]]]) -> None:
