@@ -147,6 +147,19 @@ def cases() -> dict[str, tuple[Any, ...]]:
         "CKT_ITEM_CAPDUTY": (eq, sp, "C1", so),
         "CKT_BUS_SCAN": (eq, "LV", 60.0, 3000.0, 20.0, "+", so),
         "CKT_BUS_RESONANCES": (eq, "LV", 60.0, 3000.0, None, None, so),
+        # frequency-domain studies
+        "CKT_GAIN": (p, s, "Vs", "n5", 10.0, 5000.0, None, None, o),
+        "CKT_GAIN_AT": (p, s, "Vs", "n5", 250.0, None, None, o),
+        "CKT_PORT_Z": (p, "n5", "GND", 10.0, 5000.0, None, o, s),
+        "CKT_TWOPORT_Z": (p, "n0", "n5", "C5", 10.0, 5000.0, None, o, s),
+        "CKT_POLES": (p, s, o),
+        "CKT_ZEROS": (p, s, "Vs", "n5", None, o),
+        "CKT_FILTER_MARGIN": (p, "n5", 48.0, 200.0, 10.0, 1e5, None, o, s),
+        "CKT_MARGIN_SCAN": (p, "n5", 48.0, 200.0, 10.0, 1e5, 20.0, o, s),
+        "CKT_DAMPING": (10e-6, 100e-6, 12.0, 100.0, None),
+        "CKT_NOISE": (p, s, "n5", 10.0, 1e5, 26.85, 20.0, o),
+        "CKT_NOISE_RMS": (p, s, "n5", 10.0, 1e5, 26.85, o),
+        "CKT_NOISE_PARTS": (p, s, "n5", 10.0, 1e5, 26.85, o),
     }
 
 

@@ -55,6 +55,10 @@ EXPECTED = [  # the names the product promises (issue: worksheet functions)
     "CKT_CABLE_LOSS",
     *("CKT_BUS_HARMONICS", "CKT_BRANCH_HARMONICS", "CKT_NEUTRAL_HARMONICS", "CKT_EXPAND"),
     *("CKT_BUS_V519", "CKT_BRANCH_I519", "CKT_ITEM_CAPDUTY", "CKT_BUS_SCAN", "CKT_BUS_RESONANCES"),
+    # frequency domain
+    *("CKT_GAIN", "CKT_GAIN_AT", "CKT_PORT_Z", "CKT_TWOPORT_Z", "CKT_POLES", "CKT_ZEROS"),
+    *("CKT_FILTER_MARGIN", "CKT_MARGIN_SCAN", "CKT_DAMPING"),
+    *("CKT_NOISE", "CKT_NOISE_RMS", "CKT_NOISE_PARTS"),
 ]
 
 # VBA keywords that cannot name an argument. [MS-VBAL] VBA Language Specification,
@@ -559,7 +563,7 @@ def test_resonances_spill(udf):
     out = call(
         udf, "CKT_RESONANCES", parts, "bus", 60.0, 3000.0, MISSING, (("fundamental_hz", 60.0),)
     )
-    assert out[0] == ["kind", "freq_hz", "order", "z_ohm"]
+    assert out[0] == ["kind", "freq_hz", "order", "z_ohm", "damping", "q"]
     assert out[1][0] == "parallel" and out[1][2] == pytest.approx(13.7, abs=0.05)  # rule of thumb
 
 
