@@ -227,6 +227,11 @@ def bench_solve_baseline(runs: int = 200) -> None:
         "bare": (lambda: np.linalg.solve(a, b), None),
     }
     times: dict[str, list[float]] = {k: [] for k in jobs}
+    for _ in range(runs // 4):  # warm-up, not counted
+        for fn, before in jobs.values():
+            if before is not None:
+                before()
+            fn()
     for _ in range(runs):  # interleaved, so that load on the machine hits every figure
         for k, (fn, before) in jobs.items():
             if before is not None:
