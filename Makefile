@@ -23,6 +23,7 @@ bench: $(STAMP)
 	$(BIN)/python benchmarks/bench_studies.py
 	$(BIN)/python benchmarks/bench_batch.py
 	$(BIN)/python benchmarks/bench_frequency.py
+	$(BIN)/python benchmarks/bench_latency.py
 
 lint: $(STAMP)
 	$(BIN)/ruff check xlfuncs tests benchmarks examples
