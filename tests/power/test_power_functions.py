@@ -82,8 +82,10 @@ def test_studies_on_the_equipment_table():
     v = call("CKT_BUS_V519", eq(), SPECTRA, "PCC", OPTS)
     assert v[0] == ["item", "percent", "limit_percent", "result"] and v[-1][0] == "basis"
     assert "bus 13.8 kV" in v[-1][1]
+    assert v[-1][1].endswith("; fundamental 60 Hz (from fundamental_hz)")
     i = call("CKT_BRANCH_I519", eq(), SPECTRA, "U1", 8000, 50, OPTS)
     assert i[-2][0] == "verdict"
+    assert i[-1][1].endswith("; fundamental 60 Hz (from fundamental_hz)")
     d = call("CKT_ITEM_CAPDUTY", eq(), SPECTRA, "C1", OPTS)
     assert d[0] == ["quantity", "value", "rated", "ratio", "limit", "pass"]
     assert d[1][2] == pytest.approx(480 / math.sqrt(3))

@@ -118,8 +118,10 @@ def CKT_PEAK(parts, sources, target, quantity=None, options=None):
     "THD of a voltage or current as a fraction (0.05 = 5 %): harmonics 2..50 over the "
     "fundamental, DC and interharmonics excluded.",
     "One number (fraction). Basis: sqrt(sum of |X_h|² for h = 2..thd_max_order) / |X_1|, "
-    "integer harmonics of fundamental_hz (else the lowest source frequency); the IEEE Std "
-    "519-2014 basis.",
+    "integer harmonics of the fundamental (the IEEE Std 519-2014 basis). The fundamental: "
+    "fundamental_hz of the options; without it the lowest AC tone, only where that tone is "
+    "the signal's largest (else an ERROR asking for fundamental_hz: a subharmonic, an "
+    "interharmonic or a resonant harmonic would be taken for it).",
 )
 def CKT_THD(parts, sources, target, quantity=None, options=None):
     return float(signal_of(parts, sources, target, quantity, options).thd())

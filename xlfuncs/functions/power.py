@@ -21,9 +21,9 @@ from ..power.tables import EXCEL_ERRORS
 from ..power.views import branch_table, bus_table, neutral_table
 from ..views import scan_freqs, scan_table
 from . import core as _core  # noqa: F401  (describes f_start, f_stop, points)
-from . import studies as _studies  # noqa: F401  (describes i_sc, i_l, edition)
 from .arguments import blank, freeze, name_arg, num_arg, points_arg
 from .registry import register_args, sheet_function
+from .studies import check_rows  # (the module also describes i_sc, i_l, edition)
 
 # every argument of ours is read with err_to_str: an Excel error cell reaches us as its text
 # ("#N/A") and is refused, instead of arriving as None and reading as a blank cell
@@ -169,13 +169,8 @@ def CKT_EXPAND(equipment, sequence, study_options=None):
     return [["" if c is None else c for c in r] for r in table]
 
 
-def _check_rows(check: Any) -> list[list[Any]]:
-    out: list[list[Any]] = [["item", "percent", "limit_percent", "result"]]
-    for label, val, lim, ok in check.rows:
-        out.append([label, val, blank(lim), "PASS" if ok else "FAIL"])
-    out.append(["verdict", "", "", "PASS" if check.passed else "FAIL"])
-    out.append(["basis", check.basis, "", ""])
-    return out
+def _check_rows(check: Any, st: HarmonicStudy) -> list[list[Any]]:
+    return check_rows(check, f"fundamental {st.f1:g} Hz (from fundamental_hz)")
 
 
 @sheet_function(
@@ -186,7 +181,7 @@ def _check_rows(check: Any) -> list[list[Any]]:
 )
 def CKT_BUS_V519(equipment, spectra, bus, study_options=None):
     st = study_of(equipment, spectra, study_options)
-    return _check_rows(st.check_voltage(_name(bus, "bus")))
+    return _check_rows(st.check_voltage(_name(bus, "bus")), st)
 
 
 @sheet_function(
@@ -203,7 +198,8 @@ def CKT_BRANCH_I519(equipment, spectra, item, i_sc, i_l, study_options=None, edi
             num_arg(i_l, "i_l"),
             num_arg(i_sc, "i_sc"),
             edition=int(num_arg(edition, "edition", 2014)),
-        )
+        ),
+        st,
     )
 
 

@@ -30,6 +30,12 @@ _A_MIN, _A_MAX = 1e-3, 1e7
 _KVAR_MIN, _KVAR_MAX = 1e-3, 1e6
 _F1_MIN, _F1_MAX = 1.0, 1000.0
 
+# The rule of Spectrum.fundamental, in the words the function reference uses.
+_F1_RULE = (
+    "fundamental_hz of the options; without it the lowest AC tone, only where that tone is "
+    "the signal's largest, else an ERROR asking for fundamental_hz"
+)
+
 register_args(
     {
         "bus_kv": (
@@ -87,25 +93,24 @@ register_args(
 )
 
 
-def _fundamental(sol: Any) -> float:
-    c = sol.circuit
-    f1 = c.options.fundamental_hz
-    if f1 is None:
-        nz = c.freqs_hz[c.freqs_hz > 0]
-        if nz.size == 0:
-            raise InputError(
-                "options", None, "fundamental_hz", expected="give fundamental_hz in the options"
-            )
-        f1 = float(nz[0])
-    return f1
+def _fundamental(sp: Any) -> tuple[float, str]:
+    """The fundamental a limits check counts harmonic orders from, by the core's one rule
+    (:meth:`xlfuncs.Spectrum.fundamental`: fundamental_hz of the options when given,
+    else the lowest AC tone only where it is the signal's largest, else refused), and
+    the words that say which one was used, for the basis row."""
+    f1, assumed = sp.fundamental()
+    how = "assumed: the lowest tone, also the largest" if assumed else "from fundamental_hz"
+    return f1, f"fundamental {f1:g} Hz ({how})"
 
 
-def _check_rows(check: Any) -> list[list[Any]]:
+def check_rows(check: Any, fundamental: str) -> list[list[Any]]:
+    """The spilled table of an IEEE 519 check; the basis row ends with ``fundamental``
+    (which fundamental the harmonic orders count from, and where it came from)."""
     out: list[list[Any]] = [["item", "percent", "limit_percent", "result"]]
     for label, val, lim, ok in check.rows:
         out.append([label, val, blank(lim), "PASS" if ok else "FAIL"])
     out.append(["verdict", "", "", "PASS" if check.passed else "FAIL"])
-    out.append(["basis", check.basis, "", ""])
+    out.append(["basis", f"{check.basis}; {fundamental}", "", ""])
     return out
 
 
@@ -120,8 +125,8 @@ def _edition(value: Any) -> int:
 @sheet_function(
     "Bus voltage harmonics and THD against IEEE 519-2014 Table 1 limits (spills pass/fail).",
     "Header item | percent | limit_percent | result: one row per harmonic 2-50 present (% of "
-    "the fundamental), a THD row, a verdict row and the basis. Screening check; the utility "
-    "and local rules decide.",
+    "the fundamental), a THD row, a verdict row and the basis, which names the fundamental "
+    "used (" + _F1_RULE + "). Screening check; the utility and local rules decide.",
 )
 def CKT_V519(parts, sources, node, bus_kv, options=None):
     from ..studies.limits import check_voltage
@@ -131,13 +136,15 @@ def CKT_V519(parts, sources, node, bus_kv, options=None):
     name = name_arg(node, "node")
     with argument_named("node", name):
         sp = sol.voltage(name)
-    return _check_rows(check_voltage(sp.freqs_hz, sp.rms, _fundamental(sol), kv))
+    f1, fundamental = _fundamental(sp)
+    return check_rows(check_voltage(sp.freqs_hz, sp.rms, f1, kv), fundamental)
 
 
 @sheet_function(
     "A current's harmonics and TDD against IEEE 519 Tables 2-4 current limits (spills pass/fail).",
     "Header item | percent | limit_percent | result: harmonics 2-50 in % of I_L, TDD, a DC row "
-    "when present (DC offset not allowed), verdict and basis. Isc/IL = i_sc / i_l.",
+    "when present (DC offset not allowed), verdict and basis, which names the fundamental "
+    "used (" + _F1_RULE + "). Isc/IL = i_sc / i_l.",
 )
 def CKT_I519(parts, sources, part, i_sc, i_l, bus_kv, edition=None, options=None):
     from ..studies.limits import check_current
@@ -154,7 +161,8 @@ def CKT_I519(parts, sources, part, i_sc, i_l, bus_kv, edition=None, options=None
     name = name_arg(part, "part")
     with argument_named("part", name):
         sp = sol.current(name)
-    return _check_rows(check_current(sp.freqs_hz, sp.rms, _fundamental(sol), il, isc / il, kv, ed))
+    f1, fundamental = _fundamental(sp)
+    return check_rows(check_current(sp.freqs_hz, sp.rms, f1, il, isc / il, kv, ed), fundamental)
 
 
 @sheet_function(
