@@ -104,6 +104,17 @@ def test_studies_on_the_equipment_table():
         (("CKT_BUS_HARMONICS", "EQ", SPECTRA, "XX", OPTS), "ERROR: argument, column bus: 'XX'"),
         (("CKT_EXPAND", "EQ", "pos2", OPTS), "ERROR: argument, column sequence: 'pos2'"),
         (("CKT_BRANCH_HARMONICS", "EQ", SPECTRA, "C1", OPTS, "bus_to"), "bus_to only"),
+        # IEEE 519 has editions 2014 and 2022; 2014.5 is no edition (was read as 2014)
+        (
+            ("CKT_BRANCH_I519", "EQ", SPECTRA, "U1", 8000, 50, OPTS, 2014.5),
+            "ERROR: argument, column edition: 2014.5",
+        ),
+        # Isc/IL below 1 is no short-circuit ratio (CKT_I519 refuses it the same way)
+        (
+            ("CKT_BRANCH_I519", "EQ", SPECTRA, "U1", 40, 50, OPTS),
+            "ERROR: argument, column i_sc: 40 — expected a short-circuit current ≥ i_l (50 A)",
+        ),
+        (("CKT_BUS_RESONANCES", "EQ", "LV", 60, 3000, 0, None, OPTS), "column points: 0"),
         (
             ("CKT_BUS_HARMONICS", "EQ#", SPECTRA, "LV", OPTS),
             "ERROR: equipment row 2, column kv: '#N/A' — the cell holds an Excel error",

@@ -22,29 +22,47 @@ register_args(
             {"ndim": 2},
         ),
         "sources": (
-            "Sources table with its header row, one row per tone: name, kind (V/I), from, to, "
-            "freq_hz | omega_rad_s | harmonic, peak | rms, phase_deg, shape. Give it to scans "
-            "too: a source then stays in the network (V as a short, I as an open).",
+            "Sources table with its header row: name, kind (V/I), from, to, then per tone "
+            "freq_hz | omega_rad_s | harmonic, peak | rms, phase_deg, shape, or per noise row "
+            "density, corner_hz. Give it to scans too: zeroed, V is a short and I an open.",
             {"ndim": 2},
         ),
         "target": ("Name of a part, source or node.", {}),
         "part": ("Name of a part or source.", {}),
-        "node": ("Node at which the impedance is seen (against the reference node).", {}),
+        "node": (
+            "Name of a node other than the reference: where the impedance is seen, the "
+            "voltage is checked or the output noise is taken, against the reference node.",
+            {},
+        ),
         "quantity": (
-            "Optional: V (voltage) or I (current). Default: I for a part, V for a node.",
+            "Optional: V (voltage) or I (current). Default: I for a part or source, V for a node.",
             {},
         ),
         "options": (
             "Optional two-column range key | value: ground, fundamental_hz, thd_max_order.",
             {"ndim": 2, "columns": ("key", "value")},
         ),
-        "points": ("Optional number of rows to return.", {}),
+        "points": (
+            "Optional number of rows to return (frequencies; times in CKT_WAVE), each "
+            "function's own range and default. The resonance functions check it (8 to "
+            "100000) but their result does not depend on it.",
+            {},
+        ),
         "freqs": (
             "Frequencies in Hz (a range or a single cell): 0 (DC) or 1e-6 to 1e12.",
             {"ndim": 2, "columns": ()},
         ),
-        "f_start": ("First frequency of the scan, Hz (1e-6 to 1e12).", {}),
-        "f_stop": ("Last frequency of the scan, Hz (above f_start, up to 1e12).", {}),
+        "f_start": (
+            "First frequency of the band, Hz: 1e-6 to 1e12. The noise band integrals "
+            "(CKT_NOISE_RMS, CKT_NOISE_PARTS) also take 0.",
+            {},
+        ),
+        "f_stop": (
+            "Last frequency of the band, Hz: above f_start, up to 1e12 (at most 12 decades "
+            "above it, except in CKT_SCAN and CKT_BUS_SCAN). CKT_NOISE_RMS and "
+            "CKT_NOISE_PARTS also take the text inf (all frequencies).",
+            {},
+        ),
     }
 )
 

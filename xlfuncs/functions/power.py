@@ -23,7 +23,11 @@ from ..views import scan_freqs, scan_table
 from . import core as _core  # noqa: F401  (describes f_start, f_stop, points)
 from .arguments import blank, freeze, name_arg, num_arg, points_arg
 from .registry import register_args, sheet_function
-from .studies import check_rows  # (the module also describes i_sc, i_l, edition)
+from .studies import (
+    check_rows,
+    currents_arg,
+    edition_arg,
+)  # (the module also describes i_sc, i_l, edition)
 
 # every argument of ours is read with err_to_str: an Excel error cell reaches us as its text
 # ("#N/A") and is refused, instead of arriving as None and reading as a blank cell
@@ -191,16 +195,10 @@ def CKT_BUS_V519(equipment, spectra, bus, study_options=None):
     call_in_wizard=False,
 )
 def CKT_BRANCH_I519(equipment, spectra, item, i_sc, i_l, study_options=None, edition=None):
+    isc, il = currents_arg(i_sc, i_l)
+    ed = edition_arg(edition)
     st = study_of(equipment, spectra, study_options)
-    return _check_rows(
-        st.check_current(
-            _name(item, "item"),
-            num_arg(i_l, "i_l"),
-            num_arg(i_sc, "i_sc"),
-            edition=int(num_arg(edition, "edition", 2014)),
-        ),
-        st,
-    )
+    return _check_rows(st.check_current(_name(item, "item"), il, isc, edition=ed), st)
 
 
 @sheet_function(
@@ -246,13 +244,14 @@ def CKT_BUS_SCAN(
 def CKT_BUS_RESONANCES(
     equipment, bus, f_start, f_stop, points=None, scan_sequence=None, study_options=None
 ):
+    n = points_arg(points)
     res = sequence_resonances(
         freeze(equipment),
         _name(bus, "bus"),
         num_arg(f_start, "f_start"),
         num_arg(f_stop, "f_stop"),
         _seq(scan_sequence),
-        points_arg(points) or 400,
+        400 if n is None else n,
         freeze(study_options),
     )
     out: list[list[Any]] = [["kind", "freq_hz", "order", "z_ohm"]]

@@ -44,7 +44,8 @@ register_args(
         ),
         "i_sc": ("Maximum short-circuit current at the point of common coupling, A.", {}),
         "i_l": (
-            "Maximum demand load current I_L (fundamental, RMS), A, same basis as the part current.",
+            "Maximum demand load current I_L (fundamental, RMS), A, on the same basis as the "
+            "current checked (the part's, or the item's line current).",
             {},
         ),
         "edition": (
@@ -66,7 +67,7 @@ register_args(
         ),
         "kvar": ("Capacitor bank rating, kvar.", {}),
         "volts": ("Capacitor rated voltage, V.", {}),
-        "fundamental_hz": ("Fundamental frequency, Hz (50 or 60).", {}),
+        "fundamental_hz": ("Fundamental frequency, Hz (e.g. 50 or 60).", {}),
         "p_or_order": (
             "Reactor ratio p below 1 (0.07 = 7 %), or the tuned order above 1 (3.78).",
             {},
@@ -118,8 +119,20 @@ def _bus_kv(value: Any, default: float | None = None) -> float:
     return num_arg(value, "bus_kv", default, above=0.0, hi=_KV_MAX, unit="kV")
 
 
-def _edition(value: Any) -> int:
+def edition_arg(value: Any) -> int:
+    """The IEEE 519 edition: 2014 (default) or 2022, nothing else."""
     return choice_arg(value, "edition", (2014, 2022), 2014)
+
+
+def currents_arg(i_sc: Any, i_l: Any) -> tuple[float, float]:
+    """``(i_sc, i_l)`` in A of an IEEE 519 current check, i_sc ≥ i_l."""
+    il = num_arg(i_l, "i_l", lo=_A_MIN, hi=_A_MAX, unit="A")
+    isc = num_arg(i_sc, "i_sc", lo=_A_MIN, hi=_A_MAX, unit="A")
+    if isc < il:
+        raise InputError(
+            "argument", None, "i_sc", i_sc, f"expected a short-circuit current ≥ i_l ({il:g} A)"
+        )
+    return isc, il
 
 
 @sheet_function(
@@ -135,6 +148,11 @@ def CKT_V519(parts, sources, node, bus_kv, options=None):
     sol = solution(parts, sources, options)
     name = name_arg(node, "node")
     with argument_named("node", name):
+        what, obj = sol.circuit.find(name, "node")
+        if what == "node" and obj == sol.circuit.ground:
+            raise InputError(
+                "argument", None, "node", node, f"expected a node other than the reference {obj!r}"
+            )
         sp = sol.voltage(name)
     f1, fundamental = _fundamental(sp)
     return check_rows(check_voltage(sp.freqs_hz, sp.rms, f1, kv), fundamental)
@@ -149,14 +167,9 @@ def CKT_V519(parts, sources, node, bus_kv, options=None):
 def CKT_I519(parts, sources, part, i_sc, i_l, bus_kv, edition=None, options=None):
     from ..studies.limits import check_current
 
-    il = num_arg(i_l, "i_l", lo=_A_MIN, hi=_A_MAX, unit="A")
-    isc = num_arg(i_sc, "i_sc", lo=_A_MIN, hi=_A_MAX, unit="A")
-    if isc < il:
-        raise InputError(
-            "argument", None, "i_sc", i_sc, f"expected a short-circuit current ≥ i_l ({il:g} A)"
-        )
+    isc, il = currents_arg(i_sc, i_l)
     kv = _bus_kv(bus_kv)
-    ed = _edition(edition)
+    ed = edition_arg(edition)
     sol = solution(parts, sources, options)
     name = name_arg(part, "part")
     with argument_named("part", name):
@@ -187,7 +200,7 @@ def CKT_I519_LIMIT(order, isc_il, bus_kv=None, edition=None):
 
     h = whole_arg(order, "order", lo=2, hi=1000)
     ratio = num_arg(isc_il, "isc_il", lo=1.0, hi=1e9)
-    lim = current_limit_pct(h, ratio, _bus_kv(bus_kv, 13.8), _edition(edition))
+    lim = current_limit_pct(h, ratio, _bus_kv(bus_kv, 13.8), edition_arg(edition))
     return blank(lim)
 
 
