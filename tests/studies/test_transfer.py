@@ -166,7 +166,9 @@ def test_two_port_input_and_output_impedance():
 
 
 def test_bad_arguments_name_the_argument():
-    with pytest.raises(InputError, match=r"argument, column source: 'Vx' — no source"):
+    with pytest.raises(
+        InputError, match=r"argument, column source: 'Vx' — no part, source or node of that name"
+    ):
         bode(RC_PARTS, RC_SOURCES, "Vx", "out", 10, 100)
     with pytest.raises(InputError, match=r"column output: 'nowhere'"):
         bode(RC_PARTS, RC_SOURCES, "Vin", "nowhere", 10, 100)
@@ -240,7 +242,7 @@ def test_cli_gain(capsys, tmp_path):
         == 0
     )
     assert main([*args[:6], "nowhere", "--f-start", "1", "--f-stop", "10"]) == 2
-    assert "no node, part or source of that name" in capsys.readouterr().err
+    assert "no part, source or node of that name" in capsys.readouterr().err
 
 
 def test_cli_twoport(capsys, tmp_path):
@@ -281,3 +283,77 @@ def test_exact_group_delay_matches_central_differences(vals, output, f):
     r = frequency_response(parts, RC_SOURCES, "Vin", output, fs, q)
     dphi = np.angle(r.h[2] / r.h[0]) / (2 * np.pi * f * 2 * h)
     assert r.group_delay_s[1] == pytest.approx(-dphi, rel=1e-5, abs=1e-12 / f)
+
+
+# ------------------------------------------------------------------ names the user gives
+# The core's lookup (Circuit.find / node_name) answers an unknown name with the closest
+# existing name and what exists; the studies pass that message through, naming their own
+# argument. Closest name: the ratio of difflib (Python's standard library), ≥ 0.6.
+NAMED_PARTS = [HEAD, ["R", "R", "in", "out", R], ["C", "C", "out", "GND", C]]
+
+
+@pytest.mark.parametrize(
+    "call, message",
+    [
+        (
+            lambda: frequency_response(NAMED_PARTS, RC_SOURCES, "Vin", "outt", [50.0]),
+            "argument, column output: 'outt' — no part, source or node of that name; nodes: "
+            "in, out, GND; parts: R, C; sources: Vin; did you mean 'out'?",
+        ),
+        (
+            lambda: frequency_response(NAMED_PARTS, RC_SOURCES, "Vinn", "out", [50.0]),
+            "argument, column source: 'Vinn' — no part, source or node of that name; nodes: "
+            "in, out, GND; parts: R, C; sources: Vin; did you mean 'Vin'?",
+        ),
+        (
+            lambda: frequency_response(NAMED_PARTS, RC_SOURCES, "R", "out", [50.0]),
+            "argument, column source: 'R' — expected a source; 'R' is a part (parts row 2) "
+            "(sources: Vin)",
+        ),
+        (
+            lambda: port_impedance(NAMED_PARTS, "ot", "GND", [50.0]),
+            "argument, column node_a: 'ot' — no node of that name; nodes: in, out, GND; did "
+            "you mean 'out'?",
+        ),
+        (
+            lambda: port_impedance(NAMED_PARTS, "out", "GNDD", [50.0]),
+            "argument, column node_b: 'GNDD' — no node of that name; nodes: in, out, GND; did "
+            "you mean 'GND'?",
+        ),
+        (
+            lambda: two_port_impedances(NAMED_PARTS, "in", "out", "CC", [50.0]),
+            "argument, column load: 'CC' — no part, source or node of that name; nodes: in, "
+            "out, GND; parts: R, C; did you mean 'C'?",
+        ),
+    ],
+)
+def test_unknown_names_get_the_cores_suggestion_under_their_own_argument(call, message):
+    with pytest.raises(InputError) as exc:
+        call()
+    assert str(exc.value) == message
+    assert isinstance(exc.value, KeyError) or "expected a source" in message
+
+
+def test_names_resolve_as_everywhere_else():
+    # letter case ignored and the node:/part: prefixes taken (as Circuit.find documents)
+    ref = frequency_response(RC_PARTS, RC_SOURCES, "Vin", "out", [50.0]).h
+    assert frequency_response(RC_PARTS, RC_SOURCES, "vin", "OUT", [50.0]).h == pytest.approx(ref)
+    assert frequency_response(RC_PARTS, RC_SOURCES, "Vin", "node:out", [50.0]).h == (
+        pytest.approx(ref)
+    )
+    _f, z = port_impedance(RC_PARTS, "node:OUT", "gnd", [50.0])
+    _f, z_ref = port_impedance(RC_PARTS, "out", "GND", [50.0])
+    assert z == pytest.approx(z_ref, rel=1e-15)
+    # a part and a node of the same name: the load is the part, the source the source
+    parts = [
+        HEAD,
+        ["Rp", "R", "in", "GND", 30.0],
+        ["Rs", "R", "in", "x", 10.0],
+        ["x", "R", "x", "GND", 40.0],
+    ]
+    src = [SHEAD, ["in", "V", "in", "GND", 50, 1.0]]
+    r = two_port_impedances(parts, "in", "x", "x", [50.0])
+    assert r.z_in == pytest.approx([30.0 * 50.0 / 80.0], rel=1e-12)  # Rp ∥ (Rs + x)
+    assert r.z_out == pytest.approx([40.0], rel=1e-12)  # Rs + Rp, the load taken out
+    h = frequency_response(parts, src, "in", "node:x", [50.0]).h
+    assert h == pytest.approx([40.0 / 50.0], rel=1e-12)  # divider 40/(10 + 40)

@@ -30,7 +30,7 @@ import numpy as np
 from ..circuit import Circuit
 from ..errors import InputError, NetworkError, SingularNetworkError
 from ..solver import B_CONST, B_INV_SCALE, B_JW, B_SCALE, System
-from ..tables import SourceRow
+from ..tables import SourceRow, name_key
 
 __all__ = [
     "AXIS_RTOL",
@@ -48,6 +48,7 @@ __all__ = [
     "frozen_pencil",
     "law_fundamental",
     "log_model",
+    "node_pair",
     "output_functional",
     "port_functional",
     "port_vector",
@@ -200,21 +201,11 @@ def _node_pos(circuit: Circuit, name: Any, column: str, *, ground_ok: bool) -> i
     text = "" if name is None else str(name).strip()
     if not text:
         raise InputError("argument", None, column, expected="missing node name")
-    key = text.lower()
-    if key == circuit.ground.lower():
-        if not ground_ok:
-            raise InputError(
-                "argument",
-                None,
-                column,
-                name,
-                f"expected a node other than the reference {circuit.ground!r}",
-            )
+    if ground_ok and circuit.node_name(text, column) == circuit.ground:
         return -1
-    for i, nd in enumerate(circuit.nodes):
-        if nd.lower() == key:
-            return i
-    raise InputError("argument", None, column, name, "no node of that name")
+    # the core's lookup: letter case ignored, a node: prefix taken, an unknown name
+    # answered with the closest node and the list of nodes
+    return circuit.node_index(text, column)
 
 
 def resolve_port(circuit: Circuit, port: Any, column: str) -> tuple[int, int, str]:
@@ -243,6 +234,20 @@ def resolve_port(circuit: Circuit, port: Any, column: str) -> tuple[int, int, st
             "argument", None, column, cells[1], "expected two different nodes for a port"
         )
     return plus, minus, f"{cells[0]}–{cells[1]}"
+
+
+def node_pair(
+    circuit: Circuit, node_a: Any, node_b: Any, columns: tuple[str, str] = ("node_a", "node_b")
+) -> tuple[int, int, str]:
+    """A port between two named nodes (either may be the reference), each looked up and
+    named in messages as its own argument: ``(plus index, minus index, label)``."""
+    plus = _node_pos(circuit, node_a, columns[0], ground_ok=True)
+    minus = _node_pos(circuit, node_b, columns[1], ground_ok=True)
+    if plus == minus:
+        raise InputError(
+            "argument", None, columns[1], node_b, f"expected a node other than {columns[0]}"
+        )
+    return plus, minus, f"{node_a}–{node_b}"
 
 
 def port_vector(system: System, plus: int, minus: int) -> np.ndarray:
@@ -316,13 +321,22 @@ def source_vector(system: System, circuit: Circuit, name: Any, column: str) -> t
     text = "" if name is None else str(name).strip()
     if not text:
         raise InputError("argument", None, column, expected="missing source name")
-    for i, s in enumerate(system.src_names):
-        if s.lower() == text.lower():
-            return i, s
-    known = ", ".join(system.src_names) or "none"
-    raise InputError(
-        "argument", None, column, name, f"no source of that name in the sources table ({known})"
-    )
+    keys = [name_key(s) for s in system.src_names]
+    if name_key(text) in keys:  # a source, even where a node has the same name
+        i = keys.index(name_key(text))
+        return i, system.src_names[i]
+    kind, obj = circuit.find(text, column)  # the core's message for an unknown name
+    if kind != "source":
+        what = "node" if kind == "node" else f"part (parts row {obj.row})"
+        sources = ", ".join(system.src_names) or "none"
+        raise InputError(
+            "argument",
+            None,
+            column,
+            name,
+            f"expected a source; {text!r} is a {what} (sources: {sources})",
+        )
+    return system.src_names.index(obj.name), obj.name
 
 
 def output_functional(
@@ -333,12 +347,7 @@ def output_functional(
     text = "" if name is None else str(name).strip()
     if not text:
         raise InputError("argument", None, "output", expected="missing output name")
-    try:
-        kind, obj = circuit.find(text)
-    except KeyError:
-        raise InputError(
-            "argument", None, "output", name, "no node, part or source of that name"
-        ) from None
+    kind, obj = circuit.find(text, "output")
     if kind == "node":
         if quantity == "I":
             raise InputError(

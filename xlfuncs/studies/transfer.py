@@ -41,6 +41,7 @@ from ._network import (
     d_matrix_times,
     finite_eigenvalues,
     law_fundamental,
+    node_pair,
     output_functional,
     port_functional,
     port_vector,
@@ -261,7 +262,7 @@ def frequency_response(
         unwrapped[order] = _unwrapped(system, b, fn, f[order], h[order])
     else:
         unwrapped = np.angle(h)
-    in_unit = "V" if system.circuit.find(src_name)[1].kind == "V" else "A"
+    in_unit = "V" if circuit.sources[k].kind == "V" else "A"
     return FrequencyResponse(
         f,
         h,
@@ -346,7 +347,7 @@ def port_impedance(
     if remove:
         circuit = rebuild(circuit, remove)
     f = _freqs(freqs_hz)
-    plus, minus, _label = resolve_port(circuit, [node_a, node_b], "node_a")
+    plus, minus, _label = node_pair(circuit, node_a, node_b)
     return f, _impedance(circuit, plus, minus, f)
 
 
@@ -398,10 +399,12 @@ def two_port_impedances(
     pi_, mi, _ = resolve_port(circuit, port_in, "port_in")
     po, mo, lab_out = resolve_port(circuit, port_out, "port_out")
     name = "" if load is None else str(load).strip()
+    if not name:
+        raise InputError("argument", None, "load", expected="missing part name")
     try:
-        kind, obj = circuit.find(name)
-    except KeyError:
-        raise InputError("argument", None, "load", load, "no part of that name") from None
+        kind, obj = "part", circuit.part(name)  # a part, even where a node has its name
+    except KeyError:  # not a plain part name: the core's lookup and its message
+        kind, obj = circuit.find(name, "load")
     if kind != "part" or obj.kind == "COUPLING":
         raise InputError("argument", None, "load", load, "expected a two-terminal part")
     ends = {(obj.from_node or "").lower(), (obj.to_node or "").lower()}
