@@ -20,11 +20,45 @@ def _loaded_after(statement: str) -> set[str]:
     return set(out.split())
 
 
+def _package(loaded, name):
+    return {m for m in loaded if m == name or m.startswith(name + ".")}
+
+
 def test_importing_the_worksheet_functions_leaves_scipy_and_metadata_alone():
     loaded = _loaded_after("import xlfuncs.worksheet")
     assert "xlfuncs.worksheet" in loaded
-    assert not {m for m in loaded if m == "scipy" or m.startswith("scipy.")}
+    assert not _package(loaded, "scipy")
     assert "importlib.metadata" not in loaded
+
+
+# the calculation modules load on a function's first call, not when Excel imports the
+# functions (the three-phase study alone pulls in every study module)
+LAZY = (
+    "xlfuncs.power",
+    "xlfuncs.studies",
+    "xlfuncs.api",
+    "xlfuncs.solver",
+    "xlfuncs.solution",
+    "xlfuncs.views",
+)
+
+
+def test_importing_the_worksheet_functions_loads_no_calculation_module():
+    loaded = _loaded_after("import xlfuncs.worksheet")
+    assert "xlfuncs.functions.power" in loaded and "xlfuncs.functions.frequency" in loaded
+    for name in LAZY:
+        assert not _package(loaded, name), name
+
+
+def test_the_calculation_modules_load_on_first_use():
+    call = (
+        "import xlfuncs.worksheet; from xlfuncs.functions import FUNCTIONS; "
+        "out = FUNCTIONS['CKT_EXPAND'].call([['name', 'kind', 'bus', 'kv', 'mva_sc', 'x_r'], "
+        "['U1', 'supply', 'B1', 13.8, 125.0, 10.0]], '+', [['fundamental_hz', 60.0]]); "
+        "assert out[1][0] == 'U1.L', out"
+    )
+    loaded = _loaded_after(call)
+    assert _package(loaded, "xlfuncs.power") and _package(loaded, "xlfuncs.studies")
 
 
 def test_the_version_is_read_when_asked_for():

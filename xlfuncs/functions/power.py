@@ -1,33 +1,25 @@
 """Three-phase study worksheet functions: harmonics of buses and items from an equipment
 table, the expanded sequence networks, and the existing studies on the study's buses and
 items. One study per distinct (equipment, spectra, options) content is computed and kept
-(content-keyed, so an edited cell can never return a stale result)."""
+(content-keyed, so an edited cell can never return a stale result).
+
+The study modules (:mod:`xlfuncs.power`, and with it :mod:`xlfuncs.studies`) are imported
+inside the functions, on first use, so that importing the worksheet functions stays quick.
+"""
 
 from __future__ import annotations
 
 import functools
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from ..errors import InputError
-from ..power import (
-    HarmonicStudy,
-    expand_network,
-    harmonic_study,
-    parse_sequence,
-    sequence_impedance,
-    sequence_resonances,
-)
-from ..power.tables import EXCEL_ERRORS
-from ..power.views import branch_table, bus_table, neutral_table
-from ..views import scan_freqs, scan_table
 from . import core as _core  # noqa: F401  (describes f_start, f_stop, points)
 from .arguments import blank, freeze, name_arg, num_arg, points_arg
-from .registry import register_args, sheet_function
-from .studies import (
-    check_rows,
-    currents_arg,
-    edition_arg,
-)  # (the module also describes i_sc, i_l, edition)
+from .registry import excel_error, register_args, sheet_function
+from .studies import check_rows, currents_arg, edition_arg  # (also describes i_sc, i_l)
+
+if TYPE_CHECKING:
+    from ..power import HarmonicStudy
 
 # every argument of ours is read with err_to_str: an Excel error cell reaches us as its text
 # ("#N/A") and is refused, instead of arriving as None and reading as a blank cell
@@ -69,6 +61,8 @@ CACHE_SIZE = 32
 
 @functools.lru_cache(maxsize=CACHE_SIZE)
 def _study_cached(equipment: Any, spectra: Any, options: Any) -> HarmonicStudy:
+    from ..power import harmonic_study
+
     return harmonic_study(equipment, spectra, options)
 
 
@@ -77,6 +71,8 @@ def study_of(equipment: Any, spectra: Any, options: Any) -> HarmonicStudy:
     try:
         return _study_cached(freeze(equipment), _spectra(spectra), freeze(options))
     except TypeError:  # something unhashable slipped in: run without the cache
+        from ..power import harmonic_study
+
         return harmonic_study(equipment, _spectra(spectra), options)
 
 
@@ -97,7 +93,7 @@ def _spectra(value: Any) -> Any:
 
 def _name(value: Any, column: str) -> str:
     text = name_arg(value, column)
-    if text.upper() in EXCEL_ERRORS:
+    if excel_error(text) is not None:
         raise InputError("argument", None, column, value, "the cell holds an Excel error")
     return text
 
@@ -117,6 +113,8 @@ def _end(value: Any) -> str | None:
 )
 def CKT_BUS_HARMONICS(equipment, spectra, bus, study_options=None):
     st = study_of(equipment, spectra, study_options)
+    from ..power.views import bus_table
+
     return bus_table(st, _name(bus, "bus"))
 
 
@@ -129,6 +127,8 @@ def CKT_BUS_HARMONICS(equipment, spectra, bus, study_options=None):
 )
 def CKT_BRANCH_HARMONICS(equipment, spectra, item, study_options=None, branch_end=None):
     st = study_of(equipment, spectra, study_options)
+    from ..power.views import branch_table
+
     return branch_table(st, _name(item, "item"), _end(branch_end) or "bus")
 
 
@@ -141,6 +141,8 @@ def CKT_BRANCH_HARMONICS(equipment, spectra, item, study_options=None, branch_en
 )
 def CKT_NEUTRAL_HARMONICS(equipment, spectra, item, study_options=None, branch_end=None):
     st = study_of(equipment, spectra, study_options)
+    from ..power.views import neutral_table
+
     return neutral_table(st, _name(item, "item"), _end(branch_end))
 
 
@@ -151,6 +153,8 @@ def CKT_NEUTRAL_HARMONICS(equipment, spectra, item, study_options=None, branch_e
     "each item's own voltage; ground node GND.",
 )
 def CKT_EXPAND(equipment, sequence, study_options=None):
+    from ..power import expand_network, parse_sequence
+
     seq = parse_sequence(_name(sequence, "sequence") if isinstance(sequence, str) else sequence)
     table = expand_network(equipment, seq, study_options)
     if len(table) == 1:
@@ -216,6 +220,8 @@ def CKT_ITEM_CAPDUTY(equipment, spectra, item, study_options=None):
 def _seq(value: Any) -> str:
     if value is None or (isinstance(value, str) and not value.strip()):
         return "+"
+    from ..power import parse_sequence
+
     return parse_sequence(_name(value, "sequence") if isinstance(value, str) else value)
 
 
@@ -228,6 +234,9 @@ def _seq(value: Any) -> str:
 def CKT_BUS_SCAN(
     equipment, bus, f_start, f_stop, points=None, scan_sequence=None, study_options=None
 ):
+    from ..power import sequence_impedance
+    from ..views import scan_freqs, scan_table
+
     f = scan_freqs(f_start, f_stop, points_arg(points))
     freqs, z = sequence_impedance(
         freeze(equipment), _name(bus, "bus"), f, _seq(scan_sequence), freeze(study_options)
@@ -244,6 +253,8 @@ def CKT_BUS_SCAN(
 def CKT_BUS_RESONANCES(
     equipment, bus, f_start, f_stop, points=None, scan_sequence=None, study_options=None
 ):
+    from ..power import sequence_resonances
+
     n = points_arg(points)
     res = sequence_resonances(
         freeze(equipment),
