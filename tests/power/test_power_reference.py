@@ -20,6 +20,7 @@ from plants import converter, row, supply, table, transformer
 from scipy import integrate, optimize
 
 import xlfuncs
+from xlfuncs.functions import FUNCTIONS
 from xlfuncs.power import harmonic_study, ideal_spectrum, sequence_resonances
 
 F1 = 60.0
@@ -128,6 +129,61 @@ def test_resonance_with_losses_matches_the_closed_form_maximum():
     assert len(found) == 1
     assert found[0].freq_hz == pytest.approx(best.x, rel=1e-6)
     assert found[0].z_ohm == pytest.approx(-best.fun, rel=1e-9)
+
+
+@pytest.mark.parametrize("xr", [1e4, 10.0, 3.0])
+def test_bus_resonance_damping_and_q_follow_from_the_supply_x_over_r(xr):
+    # A supply (Z = kV²/MVA_sc with ratio X/R, R constant in the harmonic networks) and a
+    # shunt bank of Q Mvar at one bus: Z(s) = (R + sL) ∥ 1/(sC), whose poles solve
+    # LC·s² + RC·s + 1 = 0 (closed form, any circuits text). With X = ωL₁ and X_C = kV²/Q at
+    # the fundamental: natural order h₀ = √(X_C/X) = √(MVA_sc/Mvar)·(1 + (R/X)²)^¼ (the
+    # rule h ≈ √(S_sc/Q) of power-quality notes as X/R grows), ζ = (R/2)·√(C/L) =
+    # 1/(2·h₀·X/R), q = 1/(2ζ) = h₀·X/R (the supply's X/R seen at the resonance).
+    mva, mvar, kv = 125.0, 5.0, 13.8
+    eq = table(
+        supply(bus="B1", kv=kv, mva_sc=mva, x_r=xr),
+        row(name="C1", kind="capacitor", bus="B1", kv=kv, kvar=mvar * 1e3, connection="Y"),
+    )
+    h0 = math.sqrt(mva / mvar) * (1 + 1 / xr**2) ** 0.25
+    zeta = 1 / (2 * h0 * xr)
+    res = sequence_resonances(eq, "B1", 60, 600, options=plants.OPTIONS)
+    (par,) = [r for r in res if r.kind == "parallel"]
+    # eigenvalues of a 3×3 pencil: round-off ~1e-15 × its condition number
+    assert par.natural_hz == pytest.approx(h0 * F1, rel=1e-9)
+    assert par.damping == pytest.approx(zeta, rel=1e-9)
+    assert par.q == pytest.approx(h0 * xr, rel=1e-9)
+    if xr == 1e4:  # the |Z| maximum sits at the natural frequency to ~ζ²
+        assert par.order == pytest.approx(math.sqrt(mva / mvar), rel=1e-6)  # 5.0
+    out = FUNCTIONS["CKT_BUS_RESONANCES"].call(eq, "B1", 60, 600, None, None, plants.OPTIONS)
+    assert out[0] == ["kind", "freq_hz", "order", "z_ohm", "damping", "q"]
+    (row_,) = [r for r in out[1:] if r[0] == "parallel"]
+    assert row_[1:] == [
+        pytest.approx(par.freq_hz, rel=1e-12),
+        pytest.approx(par.order, rel=1e-12),
+        pytest.approx(par.z_ohm, rel=1e-12),
+        pytest.approx(zeta, rel=1e-9),
+        pytest.approx(h0 * xr, rel=1e-9),
+    ]
+
+
+def test_bus_resonances_with_a_resistance_law_say_how_they_were_found():
+    # transformer resistance R ∝ √h (common practice): Z(s) is not rational, so the table
+    # ends with the note CKT_RESONANCES gives for the same case
+    eq = table(
+        supply(kv=13.8, mva_sc=250, x_r=12),
+        transformer("T1", "PCC", "LV", "Dyn11", kva=2000, kv_hv=13.8, kv_lv=0.48, z_pct=5.75),
+        row(name="C1", kind="capacitor", bus="LV", kv=0.48, kvar=300, connection="Y"),
+    )
+    out = FUNCTIONS["CKT_BUS_RESONANCES"].call(eq, "LV", 60, 3000, None, None, plants.OPTIONS)
+    assert out[0] == ["kind", "freq_hz", "order", "z_ohm", "damping", "q"]
+    assert out[-1][0] == "note" and "resistance law present" in out[-1][1]
+    par = [r for r in out[1:-1] if r[0] == "parallel"]
+    # h ≈ √(S_sc/Q) with S_sc of the transformer and supply in series at the LV bus
+    # (common practice): 1/(1/250 + 0.0575/2) MVA = 30.5 MVA, 0.3 Mvar → h ≈ 10.1
+    s_sc = 1 / (1 / 250 + 0.0575 / 2)
+    # (a rule of thumb: R and the X/R ratios neglected; 2 % allowed)
+    assert len(par) == 1 and par[0][2] == pytest.approx(math.sqrt(s_sc / 0.3), rel=0.02)
+    assert 0 < par[0][4] < 0.5 and par[0][5] == pytest.approx(1 / (2 * par[0][4]), rel=1e-12)
 
 
 # ------------------------------------------------------------------ 12-pulse principle

@@ -126,6 +126,13 @@ def CKT_RESONANCES(parts, node, f_start, f_stop, points=None, options=None, sour
         options=freeze(options),
         sources=freeze(sources),
     )
+    return resonance_table(res)
+
+
+def resonance_table(res: Any) -> list[list[Any]]:
+    """The spilled table of :class:`xlfuncs.studies.Resonances` (CKT_RESONANCES and the
+    three-phase CKT_BUS_RESONANCES): header kind | freq_hz | order | z_ohm | damping | q,
+    a `none found` row when empty and a last `note` row where the method needs saying."""
     out: list[list[Any]] = [["kind", "freq_hz", "order", "z_ohm", "damping", "q"]]
     for r in res:
         q: Any = "" if r.damping is None else ("lossless" if r.q is None else r.q)
@@ -141,7 +148,7 @@ def CKT_RESONANCES(parts, node, f_start, f_stop, points=None, options=None, sour
         )
     if not res:
         out.append(["none found", "", "", "", "", ""])
-    if res.note:
+    if getattr(res, "note", ""):
         out.append(["note", res.note, "", "", "", ""])
     return out
 

@@ -14,7 +14,8 @@ from typing import TYPE_CHECKING, Any
 
 from ..errors import InputError
 from . import core as _core  # noqa: F401  (describes f_start, f_stop, points)
-from .arguments import blank, freeze, name_arg, num_arg, points_arg
+from .arguments import freeze, name_arg, num_arg, points_arg
+from .frequency import resonance_table
 from .registry import excel_error, register_args, sheet_function
 from .studies import check_rows, currents_arg, edition_arg  # (also describes i_sc, i_l)
 
@@ -246,8 +247,11 @@ def CKT_BUS_SCAN(
 
 @sheet_function(
     "Parallel and series resonances seen at a bus in a sequence network of the equipment (spills).",
-    "Header kind | freq_hz | order | z_ohm; one row per resonance, ascending, refined to 1e-7 in "
-    "frequency; order = f / fundamental_hz.",
+    "Header kind | freq_hz | order | z_ohm | damping | q (line-to-neutral Ω), as CKT_RESONANCES: "
+    "one row per resonance, ascending; order = f / fundamental_hz; damping ζ and q = 1/(2ζ) of "
+    "the natural frequency behind it (empty when none lies near). Where a resistance law is "
+    "present (transformer and cable resistances, R ∝ √h) a scan is used and a last "
+    "`note` row says so.",
     call_in_wizard=False,
 )
 def CKT_BUS_RESONANCES(
@@ -265,11 +269,7 @@ def CKT_BUS_RESONANCES(
         400 if n is None else n,
         freeze(study_options),
     )
-    out: list[list[Any]] = [["kind", "freq_hz", "order", "z_ohm"]]
-    out += [[r.kind, r.freq_hz, blank(r.order), r.z_ohm] for r in res]
-    if not res:
-        out.append(["none found", "", "", ""])
-    return out
+    return resonance_table(res)
 
 
 def cache_clear() -> None:

@@ -38,7 +38,7 @@ from ..solution import Solution, Spectrum
 from ..studies import (
     CapacitorDuty,
     CurrentCheck,
-    Resonance,
+    Resonances,
     VoltageCheck,
     capacitor_duty,
     check_current,
@@ -643,7 +643,7 @@ class HarmonicStudy:
         f_stop: float | None = None,
         sequence: str = "+",
         points: int = 400,
-    ) -> list[Resonance]:
+    ) -> Resonances:
         """Parallel and series resonances seen at ``bus`` in a sequence network, between
         ``f_start`` (default the fundamental) and ``f_stop`` (default max_order × f₁)."""
         circuit, node = _sequence_circuit(
@@ -715,7 +715,7 @@ def _resonances(
     f_start: float | None,
     f_stop: float | None,
     points: int,
-) -> list[Resonance]:
+) -> Resonances:
     lo = options.fundamental_hz if f_start is None else f_start
     hi = options.max_order * options.fundamental_hz if f_stop is None else f_stop
     return find_resonances(
@@ -751,7 +751,7 @@ def sequence_resonances(
     sequence: str = "+",
     points: int = 400,
     options: Any = None,
-) -> list[Resonance]:
+) -> Resonances:
     """Resonances seen at ``bus`` in a sequence network, straight from the equipment
     table (defaults: the fundamental to max_order × f₁)."""
     seq = parse_sequence(sequence)
