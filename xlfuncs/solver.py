@@ -89,21 +89,25 @@ _REFINE_TARGET = 1e-15  # once refining, go on while above this and still improv
 _MAX_REFINE = 5  # refinement steps per factorisation
 
 # --- method choice: a cost model measured with `make bench` (benchmarks/bench_solver.py,
-# section "cost model"); seconds on the reference machine (2 cores, OpenBLAS, Haswell
-# kernels), fitted to
+# section (d)) on random RLC networks, seconds on a 2-core machine (OpenBLAS, Haswell
+# kernels). Measured per frequency, dense path (assembly, equilibration, batched LU,
+# check): n = 9: 16 µs, 48: 97 µs, 100: 336 µs, 200: 1.71 ms; QZ once: 0.77 ms, 5.5 ms,
+# 33 ms, 249 ms; pencil path per frequency (back-substitution and check): 14, 48, 108,
+# 231 µs. Fitted:
 #   dense   per frequency  t = _LU_N3·n³ + _LU_N2·n² + _LU_N0
-#   pencil  once           t = _QZ_N3·n³            (QZ with Q and Z accumulated)
-#           per frequency  t = _BS_N2·n² + _BS_N0, plus _BS_ROW per row and block
-# so that the pencil wins when F·(t_lu − t_bs) > t_qz; with these figures the
-# break-even is F ≈ 0.4·n at n = 50, F ≈ 0.9·n at n = 200 and F ≈ 1.3·n at n = 400
-# (the old rule "F ≥ n/4" took the pencil at n = 200, F = 50 where LU is ~3× cheaper).
-_LU_N3, _LU_N2, _LU_N0 = 2.0e-10, 1.5e-8, 6.0e-6
-_QZ_N3 = 7.0e-8
-_BS_N2, _BS_N0, _BS_ROW = 8.0e-9, 1.0e-6, 1.5e-5
+#   pencil  once           t = _QZ_N3·n³ + _QZ_N0
+#           per frequency  t = _BS_N2·n² + _BS_N1·n + _BS_N0
+# The pencil wins when F·(t_lu − t_bs) > t_qz: break-even near F ≈ 120 at n = 48, 150 at
+# n = 100, 170 at n = 200 (the old rule "F ≥ n/4" took the pencil at n = 200, F = 50,
+# where the model and the measurement give batched LU ~3× cheaper).
+_LU_N3, _LU_N2, _LU_N0 = 9.25e-11, 2.4e-8, 1.5e-5
+_QZ_N3, _QZ_N0 = 3.3e-8, 5.0e-4
+_BS_N2, _BS_N1, _BS_N0 = 2.7e-9, 1.1e-6, 5.0e-6
 # sparse direct beats dense LU from a few hundred unknowns on (sparse) MNA matrices:
-# measured break-even near n = 150 for feeders and grids (bench "sparse vs dense")
+# measured on random RLC networks, per frequency: n = 100 sparse 495 µs vs dense 336 µs;
+# n = 200: 995 µs vs 1.71 ms; n = 400: 3.7 ms vs 9.5 ms
 _SPARSE_MIN_N = 200
-_SPARSE_PIVOT = 0.1  # SuperLU diag_pivot_thresh on the sparse path (see _sparse_scaled)
+_SPARSE_PIVOT = 1.0  # SuperLU diag_pivot_thresh on the sparse path: partial pivoting
 _SPARSE_MAX_DENSITY = 0.05  # a denser pattern stays on the dense path below _DENSE_MAX_N
 _DENSE_MAX_N = 1500  # never allocate dense n×n matrices above this (memory)
 
@@ -596,10 +600,12 @@ class System:
             chk.accept(y, ok)
             chk.refine(lambda idx, res: self._pencil_scaled(f[idx], res, r[idx], c[idx])[0])
         elif how == "sparse":
-            y, ok = self._sparse_scaled(vs, bs, chk)
-            chk.accept(y, ok)
+            chk.accept_measured(*self._sparse_scaled(vs, bs, chk))
         else:
-            y, ok = _dense_batched(self._dense(vs), bs)
+            # batches of small LUs gain nothing from BLAS threads, and on a busy machine
+            # they lose up to 35× (n = 200: 13 s against 0.37 s, bench (a))
+            with _one_blas_thread() if self.n >= 64 else contextlib.nullcontext():
+                y, ok = _dense_batched(self._dense(vs), bs)
             chk.accept(y, ok)
         # second, independent factorisation (and refinement) for what is still not right
         for m in chk.unresolved():
@@ -674,9 +680,7 @@ class System:
         for basis in (B_CONST, B_JW):
             sel = self.basis[self.param] == basis
             out.append(
-                csc_matrix(
-                    (vals[sel], (self.rows[sel], self.cols[sel])), shape=(self.n, self.n)
-                )
+                csc_matrix((vals[sel], (self.rows[sel], self.cols[sel])), shape=(self.n, self.n))
             )
         return out[0], out[1]
 
@@ -684,10 +688,10 @@ class System:
     @cached_property
     def _column_order(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
         """One fill-reducing column ordering for every frequency (the pattern does not
-        depend on ω), computed once: minimum degree on the pattern of AᵀA + A, suited to
-        MNA matrices (structurally almost symmetric). Measured on equilibrated feeder and
-        grid matrices (5000–7500 unknowns) it gives about half the fill of COLAMD and
-        1.5–8× faster factorisations (bench "sparse"). Returns
+        depend on ω), computed once: SuperLU's COLAMD (scipy's default, robust with
+        partial pivoting; minimum degree on AᵀA + A halves the fill on feeders and grids
+        but with partial pivoting it was unreliable on grids with inductive links, 100 s
+        against 1 s for one factorisation). Returns
         ``(q, gather, indptr, indices)``: the matrix A[:, q] in CSC form takes its values
         as ``vals[gather]``."""
         from scipy.sparse import csc_matrix
@@ -697,11 +701,9 @@ class System:
         co, ptr = pat.col_order, pat.col_indptr
         # the ordering depends on the pattern only: factor a generic matrix of that pattern
         rng = np.random.default_rng(12345)
-        probe = csc_matrix(
-            (1.0 + rng.random(co.size), pat.urows[co], ptr), shape=(self.n, self.n)
-        )
+        probe = csc_matrix((1.0 + rng.random(co.size), pat.urows[co], ptr), shape=(self.n, self.n))
         try:
-            q = np.argsort(splu(probe, permc_spec="MMD_AT_PLUS_A").perm_c)
+            q = np.argsort(splu(probe, permc_spec="COLAMD").perm_c)
         except RuntimeError:  # structurally singular pattern: keep the natural order
             q = np.arange(self.n)
         counts = np.diff(ptr)[q]
@@ -713,12 +715,10 @@ class System:
 
     def _sparse_scaled(
         self, vs: np.ndarray, bs: np.ndarray, chk: _Checker
-    ) -> tuple[np.ndarray, np.ndarray]:
-        """SuperLU per matrix on D_r·A·D_c[:, q] with the shared ordering q and threshold
-        partial pivoting (a diagonal entry is kept as pivot when it is at least 0.1 of the
-        column's largest: SuperLU's setting for nearly symmetric patterns; stability is
-        checked by the residual, refined with the same factors, and a second
-        factorisation with full partial pivoting takes over when that is not enough)."""
+    ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """SuperLU per matrix on D_r·A·D_c[:, q] with the shared ordering q and partial
+        pivoting; each answer's residual is checked with the same CSC matrix and refined
+        with the same factors (a second factorisation takes over if that is not enough)."""
         from scipy.sparse import csc_matrix
         from scipy.sparse.linalg import splu
 
@@ -726,6 +726,7 @@ class System:
         n = self.n
         y = np.zeros_like(bs)
         ok = np.ones(bs.shape[0], dtype=bool)
+        eta = np.full(bs.shape[0], np.inf)
         for m in range(bs.shape[0]):
             a = csc_matrix((vs[m, gather], indices, indptr), shape=(n, n))
             try:
@@ -733,20 +734,28 @@ class System:
             except RuntimeError:  # exactly singular
                 ok[m] = False
                 continue
-            def sol(rhs: np.ndarray, lu: Any = lu) -> np.ndarray:
-                out = np.empty(n, dtype=complex)
-                out[q] = lu.solve(rhs)
-                return out
-
-            y[m] = chk.refine_one(m, sol(bs[m]), sol)
-        return y, ok
+            # residual with the same CSC matrix (one sparse product): z = y[q]
+            z = lu.solve(bs[m])
+            e = chk.eta_value(m, z, bs[m] - a @ z)
+            for _ in range(_MAX_REFINE if e > _REFINE_ABOVE else 0):
+                z2 = z + lu.solve(bs[m] - a @ z)
+                e2 = chk.eta_value(m, z2, bs[m] - a @ z2)
+                if not e2 < e:
+                    break
+                going = e2 < 0.5 * e and e2 > _REFINE_TARGET
+                z, e = z2, e2
+                if not going:
+                    break
+            y[m, q] = z
+            eta[m] = e
+        return y, ok, eta
 
     def _second_kernel(
         self, vs: np.ndarray, bs: np.ndarray, chk: _Checker, m: int
     ) -> tuple[np.ndarray, bool]:
         """An independent factorisation of one equilibrated matrix (values (U,)) with
         iterative refinement: scipy's LAPACK getrf for moderate n, else SuperLU with a
-        different ordering (COLAMD) and full partial pivoting."""
+        different ordering (minimum degree on AᵀA) and partial pivoting."""
         n = self.n
         if n <= _DENSE_MAX_N:
             from scipy.linalg import get_lapack_funcs
@@ -769,7 +778,7 @@ class System:
             co = pat.col_order
             a = csc_matrix((vs[co], pat.urows[co], pat.col_indptr), shape=(n, n))
             try:
-                flu = splu(a, permc_spec="COLAMD", diag_pivot_thresh=1.0)
+                flu = splu(a, permc_spec="MMD_ATA", diag_pivot_thresh=1.0)
             except RuntimeError:
                 return np.full(n, np.nan, dtype=complex), False
             sol = flu.solve
@@ -812,8 +821,7 @@ def _dense_cost(n: int, m: int) -> float:
 
 
 def _pencil_cost(n: int, m: int) -> float:
-    blocks = -(-m // _PENCIL_BLOCK)
-    return _QZ_N3 * n**3 + m * (_BS_N2 * n**2 + _BS_N0) + blocks * n * _BS_ROW
+    return _QZ_N3 * n**3 + _QZ_N0 + m * (_BS_N2 * n**2 + _BS_N1 * n + _BS_N0)
 
 
 def _dense_batched(a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -873,6 +881,15 @@ class _Checker:
         self.eta = eta
         self.singular = near | ~ok
 
+    def accept_measured(self, y: np.ndarray, ok: np.ndarray, eta: np.ndarray) -> None:
+        """Answers whose η the path measured itself (the sparse path, per matrix)."""
+        self.y = y
+        self.eta = np.where(ok, eta, np.inf)
+        with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
+            yn = np.abs(y).max(axis=1)
+            kappa = np.where(self.bnorm > 0, self.anorm * yn / self.bnorm, 0.0)
+        self.singular = ~ok | ~np.isfinite(y).all(axis=1) | ~(kappa <= _NEAR_SINGULAR)
+
     def accept_one(self, m: int, y: np.ndarray, ok: bool) -> None:
         self.tried_second[m] = True
         eta, near = self._measure(np.array([m]), y[None])
@@ -930,6 +947,10 @@ class _Checker:
     # one matrix (used inside factorisation loops)
     def residual_one(self, m: int, y: np.ndarray) -> np.ndarray:
         return self.bs[m] - self.system._matvec(self.vs[m : m + 1], y[None])[0]
+
+    def eta_value(self, m: int, y: np.ndarray, res: np.ndarray) -> float:
+        """η of matrix m for an answer y (in any order of its entries) and residual res."""
+        return self.eta_one(m, y, res)
 
     def eta_one(self, m: int, y: np.ndarray, res: np.ndarray) -> float:
         yn = float(np.abs(y).max()) if y.size else 0.0
@@ -1285,7 +1306,8 @@ def build_system(circuit: Circuit) -> System:
         p.ctrl_part.lower() for p in parts if p.kind in ("CCVS", "CCCS") and p.ctrl_part
     }
     # branch currents first, so that controlled sources can refer to them
-    for obj in (*parts, *circuit.sources):
+    elements: list[Any] = [*parts, *circuit.sources]
+    for obj in elements:
         if KINDS[obj.kind].branch or obj.name.lower() in controllers:
             b.branch[obj.name.lower()] = b.new_branch(obj.name)
     b.cur_src = [-1] * (n_parts + len(circuit.sources))
@@ -1343,9 +1365,7 @@ def build_system(circuit: Circuit) -> System:
         cur_param=np.array([t[2] for t in cur], dtype=np.int64),
         cur_sign=np.array([t[3] for t in cur], dtype=float),
         cur_src=np.array(cur_src, dtype=np.int64),
-        sec_plus=np.array(
-            [node[p.sec_from] if p.sec_from else -1 for p in parts] + [-1] * n_src
-        )
+        sec_plus=np.array([node[p.sec_from] if p.sec_from else -1 for p in parts] + [-1] * n_src)
         % (b.n + 1),
         sec_minus=np.array([node[p.sec_to] if p.sec_to else -1 for p in parts] + [-1] * n_src)
         % (b.n + 1),

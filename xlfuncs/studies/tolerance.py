@@ -326,9 +326,7 @@ def tolerance_study(
         )
     system = build_system(circuit)
     diagnose(circuit, dc=bool(np.any(circuit.freqs_hz == 0)))
-    ev = _Evaluator(
-        system, target, quantity, metric, workers, chunk, resonance_span, blas_threads
-    )
+    ev = _Evaluator(system, target, quantity, metric, workers, chunk, resonance_span, blas_threads)
     parts_e = [p for p in circuit.parts if p.kind != "COUPLING"]
     n_e = len(system.elem_names)
     tol = np.zeros(n_e)
