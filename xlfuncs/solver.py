@@ -588,31 +588,71 @@ class System:
         """Solve M matrices at frequencies f (M,) with parameters ``theta`` (None for the
         nominal ones, or (M, P)) and right-hand sides b (M, n); checked, refined, and
         refused where no accurate answer exists."""
+        if how == "dense":
+            return self._solve_dense_block(f, theta, b)
         v = self._values(self._coef(f, theta))
         absv = np.abs(v)
         r, c = self._equilibration(absv)
         pat = self._pattern
         vs = v * np.take(r, pat.urows, axis=1) * np.take(c, pat.ucols, axis=1)
         bs = b * r
-        chk = _Checker(self, vs, bs)
+        chk = _Checker(self, bs, vs=vs)
         if how == "pencil":
             y, ok = self._pencil_scaled(f, bs, r, c)
             chk.accept(y, ok)
             chk.refine(lambda idx, res: self._pencil_scaled(f[idx], res, r[idx], c[idx])[0])
-        elif how == "sparse":
-            chk.accept_measured(*self._sparse_scaled(vs, bs, chk))
         else:
-            # batches of small LUs gain nothing from BLAS threads, and on a busy machine
-            # they lose up to 35× (n = 200: 13 s against 0.37 s, bench (a))
-            with _one_blas_thread() if self.n >= 64 else contextlib.nullcontext():
-                y, ok = _dense_batched(self._dense(vs), bs)
-            chk.accept(y, ok)
-        # second, independent factorisation (and refinement) for what is still not right
+            chk.accept_measured(*self._sparse_scaled(vs, bs, chk))
+        return self._finish(f, theta, chk) * c
+
+    def _solve_dense_block(
+        self, f: np.ndarray, theta: np.ndarray | None, b: np.ndarray
+    ) -> np.ndarray:
+        """The dense path: every step on the (M, n, n) stack (small n)."""
+        if theta is None:  # nominal values: A0 + jω·A1 (+ resistance laws), cached pencil
+            a0, a1, laws = self._dense_pencil
+            a = np.empty((f.size, self.n, self.n), dtype=complex)
+            a.real[...] = a0
+            np.multiply((2 * np.pi * f)[:, None, None], a1, out=a.imag)
+            if laws:
+                ph = self.phi(f)
+                for p, pat in laws:
+                    a += (ph[:, p].real * self.theta[p])[:, None, None] * pat
+        else:
+            a = self._dense(self._values(self._coef(f, theta)))
+        absa = np.abs(a)
+        r = _pow2_inverse(absa.max(axis=2))
+        c = _pow2_inverse((absa * r[:, :, None]).max(axis=1))
+        a *= r[:, :, None]
+        a *= c[:, None, :]
+        bs = b * r
+        chk = _Checker(self, bs, dense=a)
+        # batches of small LUs gain nothing from BLAS threads, and on a busy machine
+        # they lose up to 35× (n = 200: 13 s against 0.37 s, bench (a))
+        with _one_blas_thread() if self.n >= 64 else contextlib.nullcontext():
+            y, ok = _dense_batched(a, bs)
+        chk.accept(y, ok)
+        return self._finish(f, theta, chk) * c
+
+    def _finish(self, f: np.ndarray, theta: np.ndarray | None, chk: _Checker) -> np.ndarray:
+        """Second, independent factorisation (and refinement) for what is still not
+        right; then refuse what stays wrong. Returns the equilibrated answers y."""
         for m in chk.unresolved():
-            chk.accept_one(m, *self._second_kernel(vs[m], bs[m], chk, m))
+            chk.accept_one(m, *self._second_kernel(chk, m))
         for m in chk.failed():
             self._refuse(f[m], self.theta if theta is None else theta[m], chk, m)
-        return chk.y * c
+        return chk.y
+
+    @cached_property
+    def _dense_pencil(self) -> tuple[np.ndarray, np.ndarray, list[tuple[int, np.ndarray]]]:
+        a0, a1 = self.pencil()
+        laws = []
+        for p in np.flatnonzero(self._scaled):
+            sel = self.param == p
+            pat = np.zeros((self.n, self.n))
+            np.add.at(pat, (self.rows[sel], self.cols[sel]), self.signs[sel])
+            laws.append((int(p), pat))
+        return a0, a1, laws
 
     def _equilibration(self, absv: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Row then column scaling by powers of two (exact) so that every row and column
@@ -750,9 +790,7 @@ class System:
             eta[m] = e
         return y, ok, eta
 
-    def _second_kernel(
-        self, vs: np.ndarray, bs: np.ndarray, chk: _Checker, m: int
-    ) -> tuple[np.ndarray, bool]:
+    def _second_kernel(self, chk: _Checker, m: int) -> tuple[np.ndarray, bool]:
         """An independent factorisation of one equilibrated matrix (values (U,)) with
         iterative refinement: scipy's LAPACK getrf for moderate n, else SuperLU with a
         different ordering (minimum degree on AᵀA) and partial pivoting."""
@@ -760,7 +798,7 @@ class System:
         if n <= _DENSE_MAX_N:
             from scipy.linalg import get_lapack_funcs
 
-            a = self._dense(vs[None])[0]
+            a = chk.dense_one(m)
             getrf, getrs = get_lapack_funcs(("getrf", "getrs"), (a,))
             lu, piv, info = getrf(a)
             if info > 0:
@@ -776,13 +814,15 @@ class System:
 
             pat = self._pattern
             co = pat.col_order
+            assert chk.vs is not None
+            vs = chk.vs[m]
             a = csc_matrix((vs[co], pat.urows[co], pat.col_indptr), shape=(n, n))
             try:
                 flu = splu(a, permc_spec="MMD_ATA", diag_pivot_thresh=1.0)
             except RuntimeError:
                 return np.full(n, np.nan, dtype=complex), False
             sol = flu.solve
-        return chk.refine_one(m, sol(bs), sol), True
+        return chk.refine_one(m, sol(chk.bs[m]), sol), True
 
     # ------------------------------------------------------------------------ refusals
     def _refuse(self, f: float, theta: np.ndarray, chk: _Checker, m: int) -> NoReturn:
@@ -849,21 +889,43 @@ class _Checker:
     above 1e-11, non-finite, or near-singular) are refused.
     """
 
-    def __init__(self, system: System, vs: np.ndarray, bs: np.ndarray) -> None:
+    def __init__(
+        self,
+        system: System,
+        bs: np.ndarray,
+        vs: np.ndarray | None = None,
+        dense: np.ndarray | None = None,
+    ) -> None:
         self.system = system
-        self.vs = vs
+        self.vs = vs  # (M, U) values at the structural positions, or
+        self.dense = dense  # (M, n, n) matrices
         self.bs = bs
         m = bs.shape[0]
-        self.anorm = system._row_reduce(np.abs(vs), np.add).max(axis=1)
+        if dense is not None:
+            self.anorm = np.abs(dense).sum(axis=2).max(axis=1)
+        else:
+            assert vs is not None
+            self.anorm = system._row_reduce(np.abs(vs), np.add).max(axis=1)
         self.bnorm = np.abs(bs).max(axis=1) if bs.size else np.zeros(m)
         self.y = np.zeros(bs.shape, dtype=complex)
         self.eta = np.full(m, np.inf)
         self.singular = np.zeros(m, dtype=bool)
         self.tried_second = np.zeros(m, dtype=bool)
-        self._pat = system._pattern
+
+    def _matvec(self, idx: np.ndarray, y: np.ndarray) -> np.ndarray:
+        if self.dense is not None:
+            return (self.dense[idx] @ y[..., None])[..., 0]
+        assert self.vs is not None
+        return self.system._matvec(self.vs[idx], y)
+
+    def dense_one(self, m: int) -> np.ndarray:
+        if self.dense is not None:
+            return self.dense[m]
+        assert self.vs is not None
+        return self.system._dense(self.vs[m : m + 1])[0]
 
     def _measure(self, idx: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        res = self.bs[idx] - self.system._matvec(self.vs[idx], y)
+        res = self.bs[idx] - self._matvec(idx, y)
         with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
             yn = np.abs(y).max(axis=1)
             eta = np.abs(res).max(axis=1) / (self.anorm[idx] * yn + self.bnorm[idx])
@@ -876,7 +938,7 @@ class _Checker:
 
     def accept(self, y: np.ndarray, ok: np.ndarray) -> None:
         idx = np.arange(y.shape[0])
-        self.y = y.copy()
+        self.y = y
         eta, near = self._measure(idx, y)
         self.eta = eta
         self.singular = near | ~ok
@@ -904,7 +966,7 @@ class _Checker:
         for _ in range(_MAX_REFINE):
             if idx.size == 0:
                 return
-            res = self.bs[idx] - self.system._matvec(self.vs[idx], self.y[idx])
+            res = self.bs[idx] - self._matvec(idx, self.y[idx])
             y = self.y[idx] + solve(idx, res)
             eta, near = self._measure(idx, y)
             better = eta < self.eta[idx]
@@ -946,7 +1008,7 @@ class _Checker:
 
     # one matrix (used inside factorisation loops)
     def residual_one(self, m: int, y: np.ndarray) -> np.ndarray:
-        return self.bs[m] - self.system._matvec(self.vs[m : m + 1], y[None])[0]
+        return self.bs[m] - self._matvec(np.array([m]), y[None])[0]
 
     def eta_value(self, m: int, y: np.ndarray, res: np.ndarray) -> float:
         """η of matrix m for an answer y (in any order of its entries) and residual res."""
