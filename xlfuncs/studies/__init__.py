@@ -6,8 +6,11 @@ from .cables import (
     ARRANGEMENTS,
     CableLoss,
     CableResistance,
+    Conductor,
+    ItemCableLoss,
     cable_ac_resistance,
     cable_harmonic_loss,
+    item_cable_loss,
     skin_effect_factor,
 )
 from .capacitor import IEEE18_LIMITS, CapacitorDuty, capacitor_duty
@@ -24,6 +27,7 @@ from .filters import (
     filter_rating,
     filter_resonance,
     highpass_filter,
+    item_filter_rating,
     read_order_amps,
     tuned_filter,
     tuning_drift,
@@ -37,12 +41,21 @@ from .limits import (
     tdd_limit_pct,
     voltage_limits_pct,
 )
-from .powers import POWER_ROWS, WIRINGS, PowerQuantities, port_powers, power_quantities
+from .powers import (
+    POWER_ROWS,
+    WIRINGS,
+    PowerQuantities,
+    item_powers,
+    port_powers,
+    power_quantities,
+)
 from .resonance import Resonance, find_resonances, resonance_order_rule
 from .tolerance import METRICS, ToleranceResult, tolerance_study
 from .transformer import (
+    ItemDerating,
     TransformerDerating,
     harmonic_loss_factor,
+    item_derating,
     k_factor,
     read_harmonic_spectrum,
     transformer_derating,
@@ -58,10 +71,13 @@ __all__ = [
     "CableResistance",
     "CapacitorDuty",
     "CapacitorStep",
+    "Conductor",
     "CurrentCheck",
     "Detuning",
     "FilterDesign",
     "FilterRating",
+    "ItemCableLoss",
+    "ItemDerating",
     "PowerQuantities",
     "Resonance",
     "SupplyResonance",
@@ -85,6 +101,10 @@ __all__ = [
     "find_resonances",
     "harmonic_loss_factor",
     "highpass_filter",
+    "item_cable_loss",
+    "item_derating",
+    "item_filter_rating",
+    "item_powers",
     "k_factor",
     "port_powers",
     "power_quantities",
