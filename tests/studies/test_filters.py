@@ -152,15 +152,38 @@ def test_capacitor_resonance_matches_the_published_rule(ssc_mva, kvar, v, expect
 def test_tuned_filter_resonance_closed_form_and_damping():
     d = tuned_filter(300, 480, 60, 4.7, 1e4, 3)
     lossless = filter_resonance(d, 30, 1e4)
-    xs = 480**2 / 30e6
+    xs = 480**2 / 30e6 * 1e4 / math.sqrt(1 + 1e8)  # |Z_s| = V²/S_sc split by X/R
     h_p = math.sqrt(d.x_c_ohm / (xs + d.x_l_ohm))  # lossless closed form (common practice)
     assert lossless.order == pytest.approx(h_p, rel=1e-6)
     damped = filter_resonance(tuned_filter(300, 480, 60, 4.7, 30, 3), 30, 5)
     assert damped.z_ohm < lossless.z_ohm and abs(damped.order / h_p - 1) < 0.02
     # |Z| at the resonance agrees with the closed-form parallel impedance there
-    zs = xs / 5 + 1j * xs * damped.order
+    zs5 = 480**2 / 30e6 / math.sqrt(26)  # R_s of |Z_s| = V²/S_sc at X/R = 5
+    zs = zs5 + 1j * 5 * zs5 * damped.order
     zf = tuned_filter(300, 480, 60, 4.7, 30, 3).impedance(damped.freq_hz)
     assert damped.z_ohm == pytest.approx(abs(zs * zf / (zs + zf)), rel=1e-9)
+
+
+def test_supply_impedance_is_the_short_circuit_power_split_by_x_over_r():
+    """S_sc = V²/|Z_s| (definition of the short-circuit power; IEC 60909-0 with c = 1):
+    at X/R = 1 the supply is |Z_s|/√2 + j|Z_s|/√2. The three-phase study models its supply
+    the same way, so a study of supply + filter item finds the same parallel resonance."""
+    from xlfuncs.power import harmonic_study
+
+    d = tuned_filter(300, 480, 60, 4.7, 30, 3)
+    r = filter_resonance(d, 2.0, 1.0)
+    z = 480**2 / 2e6
+    assert r.x_s_ohm == pytest.approx(z / math.sqrt(2), rel=1e-14)
+    assert r.r_s_ohm == pytest.approx(z / math.sqrt(2), rel=1e-14)
+    head = ["name", "kind", "bus", "kv", "mva_sc", "x_r", "kvar", "tuned_order", "q_factor"]
+    eq = [
+        [*head, "connection"],
+        ["U1", "supply", "B1", 0.48, 2.0, 1.0, None, None, None, None],
+        ["F1", "filter", "B1", 0.48, None, None, 480**2 / d.x_c_ohm / 1e3, 4.7, 30.0, "Y"],
+    ]
+    st = harmonic_study(eq, None, {"fundamental_hz": 60})
+    par = [x for x in st.resonances("B1", 60, 20 * 60) if x.kind == "parallel"]
+    assert par[0].order == pytest.approx(r.order, rel=1e-6)
 
 
 # ----------------------------------------------------------------------------- rating

@@ -30,7 +30,8 @@ capacitor tolerance and temperature (coefficient × excursion) and reactor toler
 the range of c and l. A capacitor losing capacitance (ageing, blown internal fuses) moves
 the tuning **up**, toward the harmonic the filter serves.
 
-Resonance with the supply: the supply is R_s + jX_s per phase, X_s = V²/S_sc at f₁,
+Resonance with the supply: the supply is R_s + jX_s per phase with |Z_s| = V²/S_sc (the
+definition of the short-circuit power) split by X/R at f₁, X_s = |Z_s|·(X/R)/√(1 + (X/R)²),
 R_s = X_s/(X/R) constant with frequency; the impedance seen at the bus with the filter
 connected is found by the core solver (:func:`xlfuncs.studies.find_resonances`: scan,
 natural-frequency seeds and refinement to 1e-7). Lossless check value:
@@ -430,7 +431,8 @@ class SupplyResonance:
 def _supply(design: FilterDesign, ssc_mva: Any, xr_ratio: Any) -> tuple[float, float]:
     s = _num(ssc_mva, "ssc_mva", "the short-circuit power at the bus > 0 MVA")
     xr = _num(xr_ratio, "xr_ratio", "the supply X/R ratio at the fundamental > 0")
-    x_s = design.bus_v**2 / (s * 1e6)  # per phase on either basis
+    z_s = design.bus_v**2 / (s * 1e6)  # |Z_s| per phase on either basis
+    x_s = z_s * xr / math.sqrt(1 + xr * xr)
     return x_s, x_s / xr
 
 
