@@ -6,6 +6,8 @@ import math
 import numpy as np
 import pytest
 import sympy as sp
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 import xlfuncs
 from xlfuncs.errors import InputError, TableError
@@ -448,3 +450,27 @@ def test_study_filter_rating_worksheet_function_and_refusals():
     assert out[-1][0] == "basis" and "licensed engineer" in out[-1][1]
     bad = FUNCTIONS["CKT_ITEM_FILTER_RATING"].call(_filter_plant("Y"), None, "U1", STUDY_OPTS)
     assert bad == "ERROR: argument, column item: 'U1' — 'U1' is a supply; expected a filter"
+
+
+@settings(max_examples=12, deadline=None)
+@given(
+    st.floats(2.0, 50.0),  # short-circuit MVA
+    st.floats(2.0, 20.0),  # X/R
+    st.floats(100.0, 600.0),  # filter kvar
+    st.floats(2.5, 12.0),  # tuned order
+    st.floats(10.0, 100.0),  # q
+    st.floats(50.0, 400.0),  # converter kW
+)
+def test_study_filter_losses_are_its_ieee1459_active_power(ssc, xr, kvar, h_t, q, kw):
+    """Power balance of the filter branch: the active power IEEE 1459 finds at its
+    terminals (every order) is what its R dissipates, 3·Σ I_h²·R."""
+    from xlfuncs.power import harmonic_study
+    from xlfuncs.studies import item_filter_rating, item_powers
+
+    eq = _filter_plant("Y")
+    eq[1][F_HEAD.index("mva_sc")], eq[1][F_HEAD.index("x_r")] = ssc, xr
+    eq[2][F_HEAD.index("kvar")], eq[2][F_HEAD.index("tuned_order")] = kvar, h_t
+    eq[2][F_HEAD.index("q_factor")], eq[3][F_HEAD.index("kw")] = q, kw
+    st_ = harmonic_study(eq, None, STUDY_OPTS)
+    absorbed = item_powers(st_, "F1").P
+    assert absorbed == pytest.approx(item_filter_rating(st_, "F1").loss_w, rel=1e-9)

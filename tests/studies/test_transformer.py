@@ -291,3 +291,20 @@ def test_study_transformer_worksheet_function_and_refusals():
     )
     bad = FUNCTIONS["CKT_ITEM_XFMR_DERATE"].call(eq, None, "T1", "#N/A", OPTS)
     assert bad.startswith("ERROR: argument, column p_ec_pu: '#N/A'")
+
+
+def test_study_derating_through_the_xlwings_call_path():
+    """An Excel error in an optional argument is refused, never read as an omitted one."""
+    from xlwings_harness import COM_ERRORS, MISSING, call, xlwings_udfs
+
+    eq = tuple(tuple(c for c in r) for r in _plant("Dyn11"))
+    opts = (("fundamental_hz", 60.0),)
+    with xlwings_udfs() as udf:
+        ok = call(udf, "CKT_ITEM_XFMR_DERATE", eq, MISSING, "T1", 0.1, opts, MISSING, MISSING)
+        bad = call(udf, "CKT_ITEM_XFMR_DERATE", eq, MISSING, "T1", 0.1, opts, COM_ERRORS["#N/A"])
+        end = call(
+            udf, "CKT_ITEM_XFMR_DERATE", eq, MISSING, "T1", 0.1, opts, MISSING, COM_ERRORS["#REF!"]
+        )
+    assert ok[1][0] == "F_HL" and isinstance(ok[1][1], float)
+    assert bad == [["ERROR: argument, column p_osl_pu: '#N/A' — expected a number"]]
+    assert end[0][0].startswith("ERROR: argument, column winding_end: '#REF!'")
