@@ -356,14 +356,16 @@ def test_scalar_functions_against_closed_forms(udf):
 
 def test_report_and_nodes_spill_rectangular_tables(udf):
     rep = call(udf, "CKT_REPORT", DIVIDER_PARTS, DIVIDER_SOURCES)
-    assert rep[0] == ["part", "kind", "v_rms", "i_rms", "i_peak", "power_w"]
+    assert rep[0] == ["part", "kind", "v_rms", "i_rms", "i_peak", "power_w", "peak_basis"]
     assert [r[0] for r in rep[1:]] == ["R1", "R2", "Vs", "balance"]
-    assert {len(r) for r in rep} == {6}
+    assert {len(r) for r in rep} == {7}
     assert abs(rep[-1][5]) < 1e-12
     i_rms = math.sqrt(8**2 + 4**2 + 1) / 4e3  # I = Vs/(R1+R2)
     assert rep[1][3] == pytest.approx(i_rms, rel=1e-12)
     nodes = call(udf, "CKT_NODES", DIVIDER_PARTS, DIVIDER_SOURCES)
-    assert nodes[0] == ["node", "dc", "rms", "peak"] and [r[0] for r in nodes[1:]] == ["in", "out"]
+    assert nodes[0] == ["node", "dc", "rms", "peak", "peak_basis"] and [
+        r[0] for r in nodes[1:]
+    ] == ["in", "out"]
 
 
 def test_wave_spills_one_period(udf):
@@ -411,7 +413,7 @@ def test_single_cell_options_and_node_numbers(udf):
         (
             "CKT_RMS",
             (DIVIDER_PARTS, DIVIDER_SOURCES, "nowhere"),
-            "ERROR: argument, column target: 'nowhere' — no part, source or node of that name",
+            "ERROR: argument, column target: 'nowhere' — no part, source or node of that name; nodes: in, out, GND; parts: R1, R2; sources: Vs",
         ),
         (
             "CKT_RMS",

@@ -221,6 +221,6 @@ def argument_named(name: str, value: Any) -> Iterator[None]:
         raise
 
 
-def blank(value: float) -> Any:
+def blank(value: float | None) -> Any:
     """A cell value: the number, or empty text where there is none (NaN)."""
-    return "" if not math.isfinite(value) else value
+    return "" if value is None or not math.isfinite(value) else value

@@ -422,6 +422,7 @@ def _inputs(book: Book, page: Page) -> None:
             for inp in group.items:
                 _input_row(book, page, page.row, inp)
                 page.row += 1
+            page.keep.append((page.row - len(group.items) - 1, page.row - 1))
         else:
             _grid(book, page, group)
         page.row += 1
