@@ -22,6 +22,8 @@ bench: $(STAMP)
 	$(BIN)/python benchmarks/bench_solver.py
 	$(BIN)/python benchmarks/bench_studies.py
 	$(BIN)/python benchmarks/bench_batch.py
+	$(BIN)/python benchmarks/bench_frequency.py
+	$(BIN)/python benchmarks/bench_latency.py
 
 lint: $(STAMP)
 	$(BIN)/ruff check xlfuncs tests benchmarks examples

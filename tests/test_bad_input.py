@@ -167,13 +167,14 @@ def test_sources_table_errors(s, o, where, fragment):
             [["name", "kind", "from", "to"], ["R1", "R", "a", "GND"]],
             GOOD_SOURCES,
             None,
-            "parts table: missing column value",
+            "parts table: missing column value (columns found: name, kind, from, to)",
         ),
         (
             GOOD_PARTS,
             [["name", "kind", "from", "to", "peak"], ["Vs", "V", "a", "GND", 1]],
             None,
-            "sources table: missing a frequency column (freq_hz, omega_rad_s or harmonic)",
+            "sources table: missing a frequency column (freq_hz, omega_rad_s or harmonic) "
+            "(columns found: name, kind, from, to, peak)",
         ),
         (
             GOOD_PARTS,
@@ -258,6 +259,7 @@ def test_unknown_target_is_named():
     sol = xlfuncs.solve(GOOD_PARTS, GOOD_SOURCES)
     with pytest.raises(InputError) as exc:
         sol.signal("nope")
-    assert (
-        str(exc.value) == "argument, column target: 'nope' — no part, source or node of that name"
+    assert str(exc.value) == (
+        "argument, column target: 'nope' — no part, source or node of that name; "
+        "nodes: a, GND; parts: R1, C1; sources: Vs"
     )

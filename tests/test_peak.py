@@ -56,12 +56,15 @@ def test_peak_matches_bounded_optimiser(seed):
     assert abs(-neg(pk.time_s)) == pytest.approx(pk.value, rel=1e-12)
 
 
-def test_incommensurate_peak_is_the_documented_bound():
+def test_incommensurate_peak_is_the_supremum():
+    # -1 + 2cos(ωt) + 3cos(√2ωt + 90°): the two phases are dense on the torus
+    # (Kronecker), so sup|x| = |-1 - 2 - 3| = 6, approached but never reached
     f = np.array([0.0, 50.0, 50.0 * math.sqrt(2)])
     x = np.array([-1.0, 2.0, 3.0j])
     pk = true_peak(f, x)
-    assert pk.method == "bound"
-    assert pk.value == pytest.approx(6.0, rel=1e-15)  # |DC| + Σ|X_k|
+    assert pk.method == "supremum" and pk.families == 2
+    assert pk.value == pytest.approx(6.0, rel=1e-12)
+    assert pk.reached <= pk.value
 
 
 def test_vectorised_over_signals():

@@ -55,6 +55,10 @@ EXPECTED = [  # the names the product promises (issue: worksheet functions)
     "CKT_CABLE_LOSS",
     *("CKT_BUS_HARMONICS", "CKT_BRANCH_HARMONICS", "CKT_NEUTRAL_HARMONICS", "CKT_EXPAND"),
     *("CKT_BUS_V519", "CKT_BRANCH_I519", "CKT_ITEM_CAPDUTY", "CKT_BUS_SCAN", "CKT_BUS_RESONANCES"),
+    # frequency domain
+    *("CKT_GAIN", "CKT_GAIN_AT", "CKT_PORT_Z", "CKT_TWOPORT_Z", "CKT_POLES", "CKT_ZEROS"),
+    *("CKT_FILTER_MARGIN", "CKT_MARGIN_SCAN", "CKT_DAMPING"),
+    *("CKT_NOISE", "CKT_NOISE_RMS", "CKT_NOISE_PARTS"),
 ]
 
 # VBA keywords that cannot name an argument. [MS-VBAL] VBA Language Specification,
@@ -273,7 +277,7 @@ def test_dialog_texts_fit_excel(udf):
     for name in FUNCTIONS:
         info = getattr(udf.module, name).__xlfunc__
         assert info["category"] == "xlfuncs"
-        assert 0 < len(info["ret"]["doc"]) <= 255, name
+        assert 0 < len(info["ret"]["doc"]) <= 255, name  # the description: our summary
         for arg in info["args"]:
             assert 0 < len(arg["doc"]) <= 255, (name, arg["name"])
             assert not arg["doc"].startswith("Positional argument"), (name, arg["name"])
@@ -352,14 +356,16 @@ def test_scalar_functions_against_closed_forms(udf):
 
 def test_report_and_nodes_spill_rectangular_tables(udf):
     rep = call(udf, "CKT_REPORT", DIVIDER_PARTS, DIVIDER_SOURCES)
-    assert rep[0] == ["part", "kind", "v_rms", "i_rms", "i_peak", "power_w"]
+    assert rep[0] == ["part", "kind", "v_rms", "i_rms", "i_peak", "power_w", "peak_basis"]
     assert [r[0] for r in rep[1:]] == ["R1", "R2", "Vs", "balance"]
-    assert {len(r) for r in rep} == {6}
+    assert {len(r) for r in rep} == {7}
     assert abs(rep[-1][5]) < 1e-12
     i_rms = math.sqrt(8**2 + 4**2 + 1) / 4e3  # I = Vs/(R1+R2)
     assert rep[1][3] == pytest.approx(i_rms, rel=1e-12)
     nodes = call(udf, "CKT_NODES", DIVIDER_PARTS, DIVIDER_SOURCES)
-    assert nodes[0] == ["node", "dc", "rms", "peak"] and [r[0] for r in nodes[1:]] == ["in", "out"]
+    assert nodes[0] == ["node", "dc", "rms", "peak", "peak_basis"] and [
+        r[0] for r in nodes[1:]
+    ] == ["in", "out"]
 
 
 def test_wave_spills_one_period(udf):
@@ -407,7 +413,7 @@ def test_single_cell_options_and_node_numbers(udf):
         (
             "CKT_RMS",
             (DIVIDER_PARTS, DIVIDER_SOURCES, "nowhere"),
-            "ERROR: argument, column target: 'nowhere' — no part, source or node of that name",
+            "ERROR: argument, column target: 'nowhere' — no part, source or node of that name; nodes: in, out, GND; parts: R1, R2; sources: Vs",
         ),
         (
             "CKT_RMS",
@@ -476,6 +482,34 @@ def test_drive_table_feeds_back_into_thd(udf):
     assert round(100 * thd) == 29  # ideal six-pulse, orders 5…25: ≈ 29 % (drives guide)
 
 
+def test_drive_with_a_measured_spectrum(udf):
+    # maker's spectrum (demo data), order | pct of I1 (order 1 = 100); I_h = I1 · pct / 100
+    spectrum = (
+        ("order", "pct"),
+        (1.0, 100.0),
+        (5.0, 30.0),
+        (7.0, 12.0),
+        (None, None),
+        (11.0, 6.0),
+    )
+    src = call(udf, "CKT_DRIVE", "Id", "GND", "bus", 100.0, MISSING, MISSING, MISSING, spectrum)
+    if src[0][0].startswith("ERROR: internal error UnboundLocalError"):
+        pytest.xfail("studies/drives.py cannot read a spectrum yet (semantics stream)")
+    assert src[0] == ["name", "kind", "from", "to", "harmonic", "rms", "phase_deg"]
+    assert [r[4:6] for r in src[1:]] == [
+        [5.0, pytest.approx(30.0)],
+        [7.0, pytest.approx(12.0)],
+        [11.0, pytest.approx(6.0)],
+    ]
+    src.append(["Id", "I", "GND", "bus", 1.0, 100.0, 0.0])
+    parts = (("name", "kind", "from", "to", "value"), ("R", "R", "bus", "GND", 1.0))
+    thd = one(
+        udf, "CKT_THD", parts, tuple(map(tuple, src)), "R", MISSING, (("fundamental_hz", 50.0),)
+    )
+    # IEEE Std 519-2014 THD: sqrt(0.30² + 0.12² + 0.06²) of the fundamental
+    assert thd == pytest.approx(math.sqrt(0.30**2 + 0.12**2 + 0.06**2), rel=1e-12)
+
+
 def test_519_limits_lookup(udf):
     assert call(udf, "CKT_V519_LIMITS", 0.48) == [
         ["individual_pct", "thd_pct"],
@@ -531,7 +565,7 @@ def test_resonances_spill(udf):
     out = call(
         udf, "CKT_RESONANCES", parts, "bus", 60.0, 3000.0, MISSING, (("fundamental_hz", 60.0),)
     )
-    assert out[0] == ["kind", "freq_hz", "order", "z_ohm"]
+    assert out[0] == ["kind", "freq_hz", "order", "z_ohm", "damping", "q"]
     assert out[1][0] == "parallel" and out[1][2] == pytest.approx(13.7, abs=0.05)  # rule of thumb
 
 

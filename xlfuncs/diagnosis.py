@@ -1,20 +1,34 @@
 """Structural diagnosis of ill-posed networks, before any matrix is solved.
 
-Finds what a user can fix by looking at the schematic: nodes with no path to the
-reference, nodes that float at DC (only capacitors and current sources link them to the
-rest), loops of voltage sources (at every frequency) or of voltage sources and inductors
-(at DC). Each finding is a :class:`~xlfuncs.errors.NetworkError` naming nodes, parts and
-frequency.
+Finds what a user can fix by looking at the schematic, in this order:
+
+* a node named ``0`` while the reference has another name (``0`` is the reference in
+  many conventions);
+* a node touched by one part only whose name is close to an existing node (a likely
+  typo, ``ot`` for ``out``), or that looks like a ground (``gnd``, ``earth``) while the
+  reference has another name;
+* nodes cut off from the reference (only current sources, or nothing, join them to it);
+* at DC, nodes that float because capacitors and current sources are their only links;
+* loops of voltage sources (at every frequency) or of voltage sources and inductors (DC).
+
+Each finding is a :class:`~xlfuncs.errors.NetworkError` naming nodes, parts and the
+frequency, with what to change.
 """
 
 from __future__ import annotations
 
-from collections.abc import Iterable
+import re
+from collections.abc import Iterable, Sequence
 
-from .circuit import Circuit
+from .circuit import Circuit, closest_name
 from .errors import NetworkError
+from .tables import name_key
 
-__all__ = ["diagnose"]
+__all__ = ["dangling_nodes", "diagnose"]
+
+# names people give the reference node; met as an ordinary node, they are likely a slip
+_GROUND_LIKE = frozenset({"0", "gnd", "ground", "earth", "ref", "com", "common", "0v"})
+_DIGITS = re.compile(r"\d+")
 
 
 class _DSU:
@@ -83,16 +97,88 @@ def _edges(circuit: Circuit) -> Iterable[tuple[str, str, str, str]]:
         yield s.from_node, s.to_node, s.name, "vsource" if s.kind == "V" else "isource"
 
 
+def dangling_nodes(circuit: Circuit) -> list[tuple[str, str, str | None]]:
+    """``(node, part, closest)`` for every node touched by exactly one terminal (and used
+    by no control): ``part`` is the one element touching it, ``closest`` the most similar
+    other node (names differing only in their digits, ``n1``/``n10``, do not count) or
+    None. Such a part has an open end and carries no current."""
+    touches: dict[str, list[str]] = {}
+    for a, c, name, _role in _edges(circuit):
+        touches.setdefault(a, []).append(name)
+        touches.setdefault(c, []).append(name)
+    for p in circuit.parts:
+        for n in (p.ctrl_from, p.ctrl_to):
+            if n is not None:
+                touches.setdefault(n, []).extend(("control", "control"))
+    everyone = [*circuit.nodes, circuit.ground]
+    out: list[tuple[str, str, str | None]] = []
+    for n in circuit.nodes:
+        if len(touches.get(n, ())) != 1:
+            continue
+        bare = _DIGITS.sub("", name_key(n))
+        others = [m for m in everyone if m != n and _DIGITS.sub("", name_key(m)) != bare]
+        out.append((n, touches[n][0], closest_name(n, others)))
+    return out
+
+
+def _ground_hint(circuit: Circuit, nodes: Sequence[str]) -> str:
+    g = circuit.ground
+    like = [n for n in nodes if name_key(n) in _GROUND_LIKE and name_key(n) != name_key(g)]
+    if not like:
+        return ""
+    n = like[0]
+    return (
+        f"the reference is {g!r}, so {n!r} is an ordinary node here: write {g} for ground, "
+        f"or set ground = {n} in the options"
+    )
+
+
+def _with_hints(circuit: Circuit, nodes: Sequence[str], hint: str) -> str:
+    """``hint`` plus what the named nodes suggest (a ground-like name, open ends)."""
+    extra = [_ground_hint(circuit, nodes)]
+    inside = set(nodes)
+    for n, part, near in dangling_nodes(circuit):
+        if n in inside:
+            extra.append(
+                f"{n!r} is touched only by {part}" + (f" (did you mean {near!r}?)" if near else "")
+            )
+    return "; ".join([hint, *[e for e in extra if e]])
+
+
 def diagnose(circuit: Circuit, *, dc: bool) -> None:
     """Raise :class:`NetworkError` for structurally ill-posed networks.
 
-    Checks, in order: nodes with no path to the reference at all; at DC (when ``dc``),
-    nodes whose only links to the rest are capacitors and current sources (a cut-set);
-    loops made only of voltage sources (at every frequency) or of voltage sources and
-    inductors (at DC).
+    Checks, in order: a node named ``0`` that is not the reference; a node touched by one
+    part only that is a likely typo (its name close to another node's) or a ground-like
+    name that is not the reference; nodes cut
+    off from the reference; at DC (when ``dc``), nodes whose only links to the rest are
+    capacitors and current sources (a cut-set); loops made only of voltage sources (at
+    every frequency) or of voltage sources and inductors (at DC).
     """
     g = circuit.ground
     edges = list(_edges(circuit))
+    zero = [n for n in circuit.nodes if n.strip() == "0"]
+    if zero:  # "0" is the reference in many conventions; here it would be an ordinary node
+        parts = [name for a, c, name, _r in edges if zero[0] in (a, c)]
+        raise NetworkError(
+            f"node '0' is not the reference (the reference is {g!r}), so the parts on it "
+            "do not reach ground",
+            nodes=zero,
+            parts=parts,
+            hint=_ground_hint(circuit, zero),
+        )
+    for n, part, near in dangling_nodes(circuit):
+        ground_hint = _ground_hint(circuit, [n])
+        if near is None and not ground_hint:
+            continue
+        raise NetworkError(
+            f"node {n!r} is touched only by {part}, whose other end then carries no "
+            "current (a likely typo)",
+            nodes=[n],
+            parts=[part],
+            hint=ground_hint
+            or f"did you mean {near!r}? connect {part} to an existing node, or remove it",
+        )
 
     def floating(allowed: set[str]) -> list[str]:
         dsu = _DSU()
@@ -111,22 +197,29 @@ def diagnose(circuit: Circuit, *, dc: bool) -> None:
     lost = floating(always)
     if lost:
         raise NetworkError(
-            "no path to the reference through any part",
+            f"these nodes are cut off from the reference {g}: no part joins them to it "
+            "(current sources, if any, fix no voltage)",
             nodes=lost,
             parts=cut(lost, {"isource"}),
-            hint=f"connect them to {g} (a resistor, or the missing part)",
+            hint=_with_hints(
+                circuit, lost, f"join them to {g} through a part (a resistor, or the one missing)"
+            ),
         )
     if dc:
         lost = floating(always - {"capacitor"})
         if lost:
             raise NetworkError(
-                "no DC path to the reference: only capacitors and current sources (a cut-set) "
-                "link these nodes to the rest",
+                "these nodes float at DC: capacitors and current sources are their only "
+                f"links to {g}, and neither settles a steady voltage",
                 nodes=lost,
                 parts=cut(lost, {"capacitor", "isource"}),
                 freq_hz=0.0,
-                hint="add a DC path (e.g. a high-value resistor across the capacitor) "
-                "or remove the DC tone",
+                hint=_with_hints(
+                    circuit,
+                    lost,
+                    f"give them a steady path to {g} (e.g. a high-value resistor across a "
+                    "capacitor named here) or remove the 0 Hz tone",
+                ),
             )
     for roles, freq in (({"vsource"}, None), ({"vsource", "inductor"}, 0.0)):
         if freq == 0.0 and not dc:

@@ -6,7 +6,8 @@ about this package::
 
     XlfuncsError (Exception)
     ├── InputError (ValueError)        a cell of an input table is wrong
-    │   └── UnitError                  a value's unit or SI prefix is wrong
+    │   ├── UnitError                  a value's unit or SI prefix is wrong
+    │   └── UnknownNameError (KeyError) a name (node, part, source) that nothing has
     ├── TableError (ValueError)        a whole table is wrong (empty, missing column)
     ├── NetworkError (ValueError)      the tables are valid but the network is ill-posed
     │   └── SingularNetworkError       no unique solution at some frequency
@@ -28,11 +29,27 @@ __all__ = [
     "SingularNetworkError",
     "TableError",
     "UnitError",
+    "UnknownNameError",
     "WorkbookError",
     "XlfuncsError",
 ]
 
 _MISSING = object()
+_MAX_QUOTE = 60  # longest quoted value in a message, in characters
+
+
+def quote(value: Any) -> str:
+    """``repr(value)``, shortened for very long values so a message stays one short line."""
+    text = repr(value)
+    if len(text) <= _MAX_QUOTE:
+        return text
+    if isinstance(value, str):
+        size = f"{len(value):,} characters"
+    elif isinstance(value, (list, tuple)):
+        size = f"{len(value):,} items"
+    else:
+        size = f"{len(text):,} characters as text"
+    return f"{text[: _MAX_QUOTE - 10]}…{text[-6:]} ({size})"
 
 
 class XlfuncsError(Exception):
@@ -85,12 +102,19 @@ class InputError(XlfuncsError, ValueError):
     def __str__(self) -> str:
         text = self.where
         if self._has_value:
-            text += f": {self.value!r}"
+            text += f": {quote(self.value)}"
         return f"{text} — {self.expected}" if self.expected else text
 
 
 class UnitError(InputError):
     """A value's SI prefix or unit symbol is unknown or does not fit the part."""
+
+
+class UnknownNameError(InputError, KeyError):
+    """A target or argument names no node, part or source of the circuit. Also a
+    ``KeyError``, so code that looks names up with ``except KeyError`` keeps working."""
+
+    __str__ = InputError.__str__
 
 
 class TableError(XlfuncsError, ValueError):

@@ -5,6 +5,14 @@ are ``None``, numbers are floats, text is ``str``. Headers are case-insensitive 
 become ``_``, a trailing ``(unit note)`` is ignored), column order is free, unknown
 columns are ignored, blank rows are skipped. Rows are numbered as the user counts them
 inside the table: header = row 1.
+
+Names of nodes, parts and sources are case-insensitive everywhere (``Bus`` and ``bus``
+are one node); the spelling met first is kept for display. A cell of a used column that
+holds a spreadsheet error (``#N/A``, ``#VALUE!``…) is refused, naming row and column.
+
+Ranges (base units): part values and amplitudes up to 1e24 in magnitude; resistances,
+inductances, capacitances and turns ratios at least 1e-24; source frequencies 0 (DC) or
+1 µHz … 1 THz (``FREQ_RANGE_HZ``).
 """
 
 from __future__ import annotations
@@ -19,11 +27,14 @@ from .errors import InputError, TableError
 from .units import parse_number
 
 __all__ = [
+    "FREQ_RANGE_HZ",
     "PART_KINDS",
     "NoiseRow",
     "Options",
     "PartRow",
     "SourceRow",
+    "check_frequency",
+    "name_key",
     "parse_cell",
     "read_options",
     "read_parts",
@@ -169,8 +180,10 @@ class Options:
     ground : str
         Name of the reference node (matched case-insensitively).
     fundamental_hz : float or None
-        Fundamental for ``harmonic`` source rows and for THD; when None, THD uses the
-        lowest non-zero source frequency.
+        Fundamental for ``harmonic`` source rows, resistance laws (``r_exponent``) and
+        THD. When None, ``harmonic`` rows and ``r_exponent`` are refused, and THD assumes
+        the lowest source frequency only where that tone is the signal's largest (see
+        :meth:`xlfuncs.Spectrum.thd_result`).
     thd_max_order : int
         Highest harmonic order counted in THD (IEEE 519-2014 counts up to 50).
     """
@@ -181,14 +194,47 @@ class Options:
 
 
 # ---------------------------------------------------------------------------------------
+# shared rules
+FREQ_RANGE_HZ = (1e-6, 1e12)
+_MIN_VALUE = 1e-24  # smallest R, L, C or turns ratio (1/R must stay finite in a solve)
+_MAX_PHASE_DEG = 1e9
+_MAX_THD_ORDER = 100_000
+_R_EXPONENT_RANGE = (0.0, 2.0)
+
+
+def name_key(name: str) -> str:
+    """The form in which names of nodes, parts and sources are compared (case folded)."""
+    return name.casefold()
+
+
+def check_frequency(freq_hz: float, value: Any, table: str, row: int | None, column: str) -> float:
+    """``freq_hz`` if it is 0 (DC) or inside ``FREQ_RANGE_HZ``, else a one-line error."""
+    lo, hi = FREQ_RANGE_HZ
+    if freq_hz == 0 or lo <= freq_hz <= hi:
+        return freq_hz
+    if freq_hz < 0:
+        raise InputError(table, row, column, value, "expected a frequency ≥ 0")
+    raise InputError(
+        table,
+        row,
+        column,
+        value,
+        f"frequency {freq_hz:.3g} Hz is outside 1 µHz … 1 THz (0 for DC): one period "
+        "below 1 µHz lasts over 11 days, and above 1 THz lumped parts do not apply",
+    )
+
+
+# ---------------------------------------------------------------------------------------
 # generic table reading
 _PAREN = re.compile(r"\(.*\)\s*$")
+_HEADER_GAPS = re.compile(r"[\s\-]+")
+_SHEET_ERROR = re.compile(r"#(?:[A-Z0-9/_]+[!?]|N/A)")
 
 
 def _norm_header(cell: Cell) -> str:
     text = "" if cell is None else str(cell)
     text = _PAREN.sub("", text).strip().lower()
-    return re.sub(r"[\s\-]+", "_", text)
+    return _HEADER_GAPS.sub("_", text)
 
 
 def _is_blank(cell: Cell) -> bool:
@@ -208,12 +254,11 @@ def _as_rows(data: Any, table: str) -> list[list[Cell]]:
             raise TableError(
                 table, "expected a 2-D range (header row + rows), got a single row or column"
             )
-    width = max((len(r) for r in rows), default=0)
-    return [r + [None] * (width - len(r)) for r in rows]
+    return rows
 
 
 class _Table:
-    """Header map + row access with user-visible row numbers."""
+    """Header map and, per non-blank row, the filled cells of the known columns."""
 
     def __init__(self, data: Any, table: str, columns: dict[str, tuple[str, ...]]) -> None:
         self.table = table
@@ -222,9 +267,9 @@ class _Table:
             raise TableError(table, "empty range (expected a header row and at least one row)")
         lookup = {alias: canon for canon, aliases in columns.items() for alias in aliases}
         self.col: dict[str, int] = {}
+        self.found = [str(c).strip() for c in rows[0] if not _is_blank(c)]
         for idx, cell in enumerate(rows[0]):
-            key = _norm_header(cell)
-            canon = lookup.get(key)
+            canon = lookup.get(_norm_header(cell))
             if canon is None:
                 continue  # notes, ratings... are ignored
             if canon in self.col:
@@ -234,168 +279,218 @@ class _Table:
                     f"(columns {self.col[canon] + 1} and {idx + 1})",
                 )
             self.col[canon] = idx
-        self.rows: list[tuple[int, list[Cell]]] = [
-            (i + 2, r) for i, r in enumerate(rows[1:]) if not all(_is_blank(c) for c in r)
-        ]
+        items = list(self.col.items())
+        self.rows: list[tuple[int, dict[str, Cell]]] = []
+        for i, r in enumerate(rows[1:]):
+            cells: dict[str, Cell] = {}
+            width = len(r)
+            for canon, idx in items:
+                c = r[idx] if idx < width else None
+                if c is None:
+                    continue
+                if type(c) is str:
+                    if not c or c[0].isspace() or c[-1].isspace():
+                        c = c.strip()
+                        if not c:
+                            continue
+                    if c[0] == "#" and _SHEET_ERROR.fullmatch(c.upper()):
+                        raise InputError(
+                            table,
+                            i + 2,
+                            canon,
+                            c,
+                            "the cell holds a spreadsheet error; fix the formula or "
+                            "value that feeds it",
+                        )
+                cells[canon] = c
+            if cells or not _row_blank(r):
+                self.rows.append((i + 2, cells))
         if not self.rows:
             raise TableError(table, "no rows below the header")
 
-    def require(self, *names: str) -> None:
-        missing = [n for n in names if n not in self.col]
-        if missing:
-            raise TableError(
-                self.table, f"missing column{'s' if len(missing) > 1 else ''} {', '.join(missing)}"
-            )
+    def missing(self, what: str) -> TableError:
+        found = ", ".join(self.found) if self.found else "none"
+        return TableError(self.table, f"missing {what} (columns found: {found})")
 
-    def get(self, r: list[Cell], name: str) -> Cell:
-        idx = self.col.get(name)
-        if idx is None:
-            return None
-        cell = r[idx]
-        return None if _is_blank(cell) else cell
+    def require(self, *names: str) -> None:
+        col = self.col
+        if all(n in col for n in names):
+            return
+        missing = [n for n in names if n not in col]
+        if missing:
+            plural = "s" if len(missing) > 1 else ""
+            raise self.missing(f"column{plural} {', '.join(missing)}")
+
+
+def _row_blank(r: Sequence[Cell]) -> bool:
+    return all(_is_blank(c) for c in r)
 
 
 def _text(cell: Cell) -> str:
+    if type(cell) is str:
+        return cell.strip()
     if isinstance(cell, float) and cell.is_integer():
         return str(int(cell))
     return str(cell).strip()
 
 
-def _name(t: _Table, rownum: int, r: list[Cell], column: str, what: str) -> str:
-    cell = t.get(r, column)
+def _name(table: str, rownum: int, cells: dict[str, Cell], column: str, what: str) -> str:
+    cell = cells.get(column)
+    if type(cell) is str:  # the common case: cells are stripped already
+        return cell
     if cell is None:
-        raise InputError(t.table, rownum, column, expected=f"missing {what}")
-    if isinstance(cell, float) and not math.isfinite(cell):
-        raise InputError(t.table, rownum, column, cell, f"expected {what}")
-    if isinstance(cell, bool):
-        raise InputError(t.table, rownum, column, cell, f"expected {what}")
+        raise InputError(table, rownum, column, expected=f"missing {what}")
+    if isinstance(cell, bool) or (isinstance(cell, float) and not math.isfinite(cell)):
+        raise InputError(table, rownum, column, cell, f"expected {what}")
     return _text(cell)
 
 
-def _opt_name(t: _Table, rownum: int, r: list[Cell], column: str) -> str | None:
-    cell = t.get(r, column)
-    return None if cell is None else _text(cell)
+def _two_ends(
+    table: str, rownum: int, cells: dict[str, Cell], a_col: str, b_col: str, what: str
+) -> tuple[str, str]:
+    a = _name(table, rownum, cells, a_col, what)
+    b = _name(table, rownum, cells, b_col, what)
+    if a == b or a.casefold() == b.casefold():
+        same = f"{a!r}" if a == b else f"{a!r} (names ignore letter case)"
+        raise InputError(
+            table, rownum, b_col, b, f"both ends on node {same}; expected two different nodes"
+        )
+    return a, b
 
 
 # ---------------------------------------------------------------------------------------
 # parts
+def _positive_value(rownum: int, cells: dict[str, Cell], value: float, what: str) -> None:
+    if value <= 0:
+        raise InputError("parts", rownum, "value", cells.get("value"), what)
+    if value < _MIN_VALUE:
+        raise InputError(
+            "parts",
+            rownum,
+            "value",
+            cells.get("value"),
+            f"{value:.3g} is below {_MIN_VALUE:g} (base units); check the exponent and prefix",
+        )
+
+
+def _read_rlc(
+    t: _Table, rownum: int, cells: dict[str, Cell], kind: str, value: float
+) -> dict[str, Any]:
+    t.require("from", "to")
+    a, b = _two_ends("parts", rownum, cells, "from", "to", "a node name")
+    _positive_value(
+        rownum,
+        cells,
+        value,
+        f"a {kind} value must be > 0 (for a short, join the nodes; for an open, leave the "
+        "part out)",
+    )
+    return {"from_node": a, "to_node": b}
+
+
+def _read_xfmr(
+    t: _Table, rownum: int, cells: dict[str, Cell], kind: str, value: float
+) -> dict[str, Any]:
+    t.require("from", "to", "sec_from", "sec_to")
+    a, b = _two_ends("parts", rownum, cells, "from", "to", "a node name")
+    _positive_value(
+        rownum,
+        cells,
+        value,
+        "turns ratio must be > 0 (swap sec_from/sec_to to reverse a winding)",
+    )
+    c, d = _two_ends("parts", rownum, cells, "sec_from", "sec_to", "a node name")
+    return {"from_node": a, "to_node": b, "sec_from": c, "sec_to": d}
+
+
+def _read_coupling(
+    t: _Table, rownum: int, cells: dict[str, Cell], kind: str, value: float
+) -> dict[str, Any]:
+    if not 0 < value <= 1:
+        raise InputError(
+            "parts", rownum, "value", cells.get("value"), "coupling k must satisfy 0 < k ≤ 1"
+        )
+    t.require("coil_a", "coil_b")
+    coil_a = _name("parts", rownum, cells, "coil_a", "the name of an inductor")
+    coil_b = _name("parts", rownum, cells, "coil_b", "the name of an inductor")
+    if name_key(coil_a) == name_key(coil_b):
+        raise InputError(
+            "parts", rownum, "coil_b", coil_b, "expected a different inductor than coil_a"
+        )
+    return {"from_node": None, "to_node": None, "coil_a": coil_a, "coil_b": coil_b}
+
+
+def _read_voltage_controlled(
+    t: _Table, rownum: int, cells: dict[str, Cell], kind: str, value: float
+) -> dict[str, Any]:
+    t.require("from", "to", "ctrl_from", "ctrl_to")
+    a, b = _two_ends("parts", rownum, cells, "from", "to", "a node name")
+    cf = _name("parts", rownum, cells, "ctrl_from", "the controlling node (+)")
+    ct = _name("parts", rownum, cells, "ctrl_to", "the controlling node (−)")
+    if name_key(cf) == name_key(ct):
+        raise InputError(
+            "parts", rownum, "ctrl_to", ct, "expected a node different from ctrl_from"
+        )
+    return {"from_node": a, "to_node": b, "ctrl_from": cf, "ctrl_to": ct}
+
+
+def _read_current_controlled(
+    t: _Table, rownum: int, cells: dict[str, Cell], kind: str, value: float
+) -> dict[str, Any]:
+    t.require("from", "to", "ctrl_part")
+    a, b = _two_ends("parts", rownum, cells, "from", "to", "a node name")
+    ctrl = _name("parts", rownum, cells, "ctrl_part", "the name of the controlling part")
+    return {"from_node": a, "to_node": b, "ctrl_part": ctrl}
+
+
+# kind -> reader of its own columns (terminals, controls, value rules)
+_KIND_READERS = {
+    "R": _read_rlc,
+    "L": _read_rlc,
+    "C": _read_rlc,
+    "XFMR": _read_xfmr,
+    "COUPLING": _read_coupling,
+    "VCVS": _read_voltage_controlled,
+    "VCCS": _read_voltage_controlled,
+    "CCVS": _read_current_controlled,
+    "CCCS": _read_current_controlled,
+}
+
+
 def read_parts(data: Any) -> tuple[PartRow, ...]:
     """Parse the parts table. See README "Parts table" for the columns."""
     t = _Table(data, "parts", _PART_COLUMNS)
     t.require("name", "kind", "value")
     seen: dict[str, int] = {}
     out: list[PartRow] = []
-    for rownum, r in t.rows:
-        name = _name(t, rownum, r, "name", "a part name")
-        key = name.lower()
+    for rownum, cells in t.rows:
+        name = _name("parts", rownum, cells, "name", "a part name")
+        key = name_key(name)
         if key in seen:
             raise InputError(
                 "parts", rownum, "name", name, f"duplicate name (already used in row {seen[key]})"
             )
         seen[key] = rownum
-        kind_cell = t.get(r, "kind")
+        kind_cell = cells.get("kind")
         if kind_cell is None:
             raise InputError("parts", rownum, "kind", expected=_kind_help())
         kind = _KIND_LOOKUP.get(_text(kind_cell).lower())
         if kind is None:
             raise InputError("parts", rownum, "kind", kind_cell, _kind_help())
-        unit = PART_KINDS[kind][0]
-        value_cell = t.get(r, "value")
+        value_cell = cells.get("value")
         if value_cell is None:
             raise InputError("parts", rownum, "value", expected=f"missing value for a {kind} part")
-        value = parse_number(value_cell, unit=unit, table="parts", row=rownum, column="value")
-        fields: dict[str, Any] = {}
-        if kind in TWO_TERMINAL:
-            t.require("from", "to")
-            a = _name(t, rownum, r, "from", "a node name")
-            b = _name(t, rownum, r, "to", "a node name")
-            if a == b:
-                raise InputError(
-                    "parts",
-                    rownum,
-                    "to",
-                    b,
-                    f"both ends on node {a!r}; expected two different nodes",
-                )
-            fields["from_node"], fields["to_node"] = a, b
-        else:
-            fields["from_node"] = fields["to_node"] = None
-        if kind in ("R", "L", "C") and value <= 0:
-            raise InputError(
-                "parts",
-                rownum,
-                "value",
-                value_cell,
-                f"a {kind} value must be > 0"
-                + (" (for a short, join the nodes; for an open, leave the part out)"),
-            )
-        if kind == "XFMR":
-            if value <= 0:
-                raise InputError(
-                    "parts",
-                    rownum,
-                    "value",
-                    value_cell,
-                    "turns ratio must be > 0 (swap sec_from/sec_to to reverse a winding)",
-                )
-            t.require("sec_from", "sec_to")
-            c = _name(t, rownum, r, "sec_from", "a node name")
-            d = _name(t, rownum, r, "sec_to", "a node name")
-            if c == d:
-                raise InputError(
-                    "parts",
-                    rownum,
-                    "sec_to",
-                    d,
-                    f"both ends on node {c!r}; expected two different nodes",
-                )
-            fields["sec_from"], fields["sec_to"] = c, d
-        if kind == "COUPLING":
-            if not 0 < value <= 1:
-                raise InputError(
-                    "parts", rownum, "value", value_cell, "coupling k must satisfy 0 < k ≤ 1"
-                )
-            t.require("coil_a", "coil_b")
-            fields["coil_a"] = _name(t, rownum, r, "coil_a", "the name of an inductor")
-            fields["coil_b"] = _name(t, rownum, r, "coil_b", "the name of an inductor")
-            if fields["coil_a"].lower() == fields["coil_b"].lower():
-                raise InputError(
-                    "parts",
-                    rownum,
-                    "coil_b",
-                    fields["coil_b"],
-                    "expected a different inductor than coil_a",
-                )
-        if kind in ("VCVS", "VCCS"):
-            t.require("ctrl_from", "ctrl_to")
-            fields["ctrl_from"] = _name(t, rownum, r, "ctrl_from", "the controlling node (+)")
-            fields["ctrl_to"] = _name(t, rownum, r, "ctrl_to", "the controlling node (−)")
-            if fields["ctrl_from"] == fields["ctrl_to"]:
-                raise InputError(
-                    "parts",
-                    rownum,
-                    "ctrl_to",
-                    fields["ctrl_to"],
-                    "expected a node different from ctrl_from",
-                )
-        if kind in ("CCVS", "CCCS"):
-            t.require("ctrl_part")
-            fields["ctrl_part"] = _name(
-                t, rownum, r, "ctrl_part", "the name of the controlling part"
-            )
-        r_exp = t.get(r, "r_exponent")
+        value = parse_number(
+            value_cell, unit=PART_KINDS[kind][0], table="parts", row=rownum, column="value"
+        )
+        fields = _KIND_READERS[kind](t, rownum, cells, kind, value)
+        r_exp = cells.get("r_exponent")
         if r_exp is not None:
-            if kind != "R":
-                raise InputError(
-                    "parts", rownum, "r_exponent", r_exp, "only resistors (kind R) take r_exponent"
-                )
-            fields["r_exponent"] = parse_number(
-                r_exp, unit=None, table="parts", row=rownum, column="r_exponent"
-            )
-        tol = t.get(r, "tolerance")
+            fields["r_exponent"] = _r_exponent(r_exp, kind, rownum)
+        tol = cells.get("tolerance")
         if tol is not None:
             fields["tolerance"] = _parse_tolerance(tol, rownum)
-            dist = t.get(r, "tol_dist")
+            dist = cells.get("tol_dist")
             if dist is not None:
                 d_txt = _text(dist).lower()
                 if d_txt not in ("uniform", "normal"):
@@ -405,6 +500,24 @@ def read_parts(data: Any) -> tuple[PartRow, ...]:
                 fields["tol_dist"] = d_txt
         out.append(PartRow(row=rownum, name=name, kind=kind, value=value, **fields))
     return tuple(out)
+
+
+def _r_exponent(cell: Cell, kind: str, rownum: int) -> float:
+    if kind != "R":
+        raise InputError(
+            "parts", rownum, "r_exponent", cell, "only resistors (kind R) take r_exponent"
+        )
+    x = parse_number(cell, unit=None, table="parts", row=rownum, column="r_exponent")
+    lo, hi = _R_EXPONENT_RANGE
+    if not lo <= x <= hi:
+        raise InputError(
+            "parts",
+            rownum,
+            "r_exponent",
+            cell,
+            f"expected an exponent {lo:g} … {hi:g} of R(f) = R·(f/f₁)^x (0.5 for skin effect)",
+        )
+    return x
 
 
 def _parse_tolerance(cell: Cell, rownum: int) -> float:
@@ -430,6 +543,11 @@ def _kind_help() -> str:
 
 # ---------------------------------------------------------------------------------------
 # sources
+_FREQ_COLUMNS = ("freq_hz", "omega_rad_s", "harmonic")
+_AMP_COLUMNS = ("peak", "rms")
+_AMP_UNIT = {"V": "V", "I": "A"}
+
+
 def read_sources(data: Any, options: Options | None = None) -> tuple[SourceRow, ...]:
     """Parse the sources table: one row per tone (see README "Sources table"). Noise rows
     are checked and left out; :func:`read_source_table` returns them too."""
@@ -447,23 +565,24 @@ def read_source_table(
     opts = options or Options()
     t = _Table(data, "sources", _SOURCE_COLUMNS)
     t.require("name", "kind", "from", "to")
-    freq_cols = [c for c in ("freq_hz", "omega_rad_s", "harmonic") if c in t.col]
-    amp_cols = [c for c in ("peak", "rms") if c in t.col]
-    has_tones = any(t.get(r, "density") is None for _n, r in t.rows)
-    if has_tones and not freq_cols:
-        raise TableError(
-            "sources", "missing a frequency column (freq_hz, omega_rad_s or harmonic)"
-        )
-    if has_tones and not amp_cols:
-        raise TableError("sources", "missing an amplitude column (peak or rms)")
+    freq_cols = [c for c in _FREQ_COLUMNS if c in t.col]
+    amp_cols = [c for c in _AMP_COLUMNS if c in t.col]
+    if any("density" not in cells for _n, cells in t.rows):  # some row is a tone
+        if not freq_cols:
+            raise t.missing("a frequency column (freq_hz, omega_rad_s or harmonic)")
+        if not amp_cols:
+            raise t.missing("an amplitude column (peak or rms)")
     first: dict[str, SourceRow] = {}
-    out: list[SourceRow] = []
+    tones: list[SourceRow] = []
     noise: list[NoiseRow] = []
     noise_names: dict[str, int] = {}
-    for rownum, r in t.rows:
-        name = _name(t, rownum, r, "name", "a source name")
-        kind_cell = t.get(r, "kind")
-        kind = None if kind_cell is None else _text(kind_cell).upper()
+    for rownum, cells in t.rows:
+        name = _name("sources", rownum, cells, "name", "a source name")
+        key = name_key(name)
+        kind_cell = cells.get("kind")
+        if kind_cell is None:
+            raise InputError("sources", rownum, "kind", expected="missing kind: V or I")
+        kind = _text(kind_cell).upper()
         if kind not in ("V", "I"):
             raise InputError(
                 "sources",
@@ -472,19 +591,8 @@ def read_source_table(
                 kind_cell,
                 "expected V (voltage source) or I (current source)",
             )
-        a = _name(t, rownum, r, "from", "a node name")
-        b = _name(t, rownum, r, "to", "a node name")
-        if a == b:
-            raise InputError(
-                "sources",
-                rownum,
-                "to",
-                b,
-                f"both ends on node {a!r}; expected two different nodes",
-            )
-        density_cell = t.get(r, "density")
-        if density_cell is not None:
-            key = name.lower()
+        a, b = _two_ends("sources", rownum, cells, "from", "to", "a node name")
+        if "density" in cells:
             if key in noise_names:
                 raise InputError(
                     "sources",
@@ -503,113 +611,31 @@ def read_source_table(
                     f"name already used by a tone (sources row {first[key].row})",
                 )
             noise_names[key] = rownum
-            noise.append(_noise_row(t, rownum, r, name, str(kind), a, b, density_cell))
+            noise.append(_noise_row(rownum, cells, name, kind, a, b))
             continue
-        if t.get(r, "corner_hz") is not None:
-            raise InputError(
-                "sources",
-                rownum,
-                "corner_hz",
-                t.get(r, "corner_hz"),
-                "corner_hz belongs to a noise row; fill density too, or leave it empty",
-            )
-        # frequency: exactly one column filled
-        filled = [c for c in freq_cols if t.get(r, c) is not None]
-        if len(filled) != 1:
-            where = filled[1] if len(filled) > 1 else freq_cols[0]
-            raise InputError(
-                "sources",
-                rownum,
-                where,
-                expected="fill exactly one of "
-                + ", ".join(freq_cols)
-                + (f" (found {', '.join(filled)})" if filled else ""),
-            )
-        fcol = filled[0]
-        fval = parse_number(
-            t.get(r, fcol),
-            unit={"freq_hz": "Hz", "omega_rad_s": "rad/s", "harmonic": None}[fcol],
-            table="sources",
-            row=rownum,
-            column=fcol,
-        )
-        if fval < 0:
-            raise InputError("sources", rownum, fcol, t.get(r, fcol), "expected a frequency ≥ 0")
-        if fcol == "freq_hz":
-            freq = fval
-        elif fcol == "omega_rad_s":
-            freq = fval / (2 * math.pi)
-        else:
-            if opts.fundamental_hz is None:
-                raise InputError(
-                    "sources",
-                    rownum,
-                    "harmonic",
-                    t.get(r, "harmonic"),
-                    "a harmonic order needs fundamental_hz in the options table",
-                )
-            freq = fval * opts.fundamental_hz
-        # amplitude: exactly one column filled
-        afilled = [c for c in amp_cols if t.get(r, c) is not None]
-        if len(afilled) != 1:
-            amp_where = afilled[1] if len(afilled) > 1 else amp_cols[0]
-            raise InputError(
-                "sources",
-                rownum,
-                amp_where,
-                expected="fill exactly one of "
-                + ", ".join(amp_cols)
-                + (f" (found {', '.join(afilled)})" if afilled else ""),
-            )
-        acol = afilled[0]
-        amp = parse_number(t.get(r, acol), unit=kind, table="sources", row=rownum, column=acol)
-        phase_cell = t.get(r, "phase_deg")
-        phase = (
-            0.0
-            if phase_cell is None
-            else parse_number(
-                phase_cell, unit="°", table="sources", row=rownum, column="phase_deg"
-            )
-        )
-        shape_cell = t.get(r, "shape")
-        shape = "cos" if shape_cell is None else _text(shape_cell).lower()
-        if shape not in ("cos", "sin"):
-            raise InputError("sources", rownum, "shape", shape_cell, "expected 'cos' or 'sin'")
-        if freq == 0:
-            if phase != 0 or shape != "cos":
-                raise InputError(
-                    "sources",
-                    rownum,
-                    "phase_deg" if phase != 0 else "shape",
-                    phase_cell if phase != 0 else shape_cell,
-                    "a DC tone (0 Hz) takes no phase or shape; give a negative value for a "
-                    "negative DC level",
-                )
-            phasor = complex(amp)  # signed DC value; rms of DC equals its value
-        else:
-            if amp < 0:
-                raise InputError(
-                    "sources",
-                    rownum,
-                    acol,
-                    t.get(r, acol),
-                    "an AC amplitude must be ≥ 0 (use phase_deg = 180 to invert)",
-                )
-            peak = amp * math.sqrt(2) if acol == "rms" else amp
-            ang = math.radians(phase - (90.0 if shape == "sin" else 0.0))
-            phasor = complex(peak * math.cos(ang), peak * math.sin(ang))
-        rec = SourceRow(rownum, name, kind, a, b, freq, phasor)
-        prev = first.get(name.lower())
-        if name.lower() in noise_names:
+        if key in noise_names:
             raise InputError(
                 "sources",
                 rownum,
                 "name",
                 name,
-                f"name already used by a noise source (sources row {noise_names[name.lower()]})",
+                f"name already used by a noise source (sources row {noise_names[key]})",
             )
+        if "corner_hz" in cells:
+            raise InputError(
+                "sources",
+                rownum,
+                "corner_hz",
+                cells["corner_hz"],
+                "corner_hz belongs to a noise row; fill density too, or leave it empty",
+            )
+        freq = _tone_frequency(rownum, cells, freq_cols, opts)
+        rec = SourceRow(
+            rownum, name, kind, a, b, freq, _tone_phasor(rownum, cells, amp_cols, kind, freq)
+        )
+        prev = first.get(key)
         if prev is None:
-            first[name.lower()] = rec
+            first[key] = rec
         else:
             if prev.kind != kind:
                 raise InputError(
@@ -619,8 +645,8 @@ def read_source_table(
                     kind_cell,
                     f"tones of source {name!r} must share one kind ({prev.kind} in row {prev.row})",
                 )
-            if (prev.from_node, prev.to_node) != (a, b):
-                col = "from" if prev.from_node != a else "to"
+            if (name_key(prev.from_node), name_key(prev.to_node)) != (name_key(a), name_key(b)):
+                col = "from" if name_key(prev.from_node) != name_key(a) else "to"
                 raise InputError(
                     "sources",
                     rownum,
@@ -629,29 +655,119 @@ def read_source_table(
                     f"tones of source {name!r} must share nodes "
                     f"({prev.from_node}→{prev.to_node} in row {prev.row})",
                 )
-        out.append(rec)
-    return tuple(out), tuple(noise)
+        tones.append(rec)
+    return tuple(tones), tuple(noise)
+
+
+def _exactly_one(rownum: int, cells: dict[str, Cell], cols: Sequence[str], what: str) -> str:
+    filled = [c for c in cols if c in cells]
+    if len(filled) == 1:
+        return filled[0]
+    if not filled:
+        raise InputError(
+            "sources",
+            rownum,
+            cols[0],
+            expected=f"empty {what}: fill one of " + ", ".join(cols),
+        )
+    raise InputError(
+        "sources",
+        rownum,
+        filled[1],
+        expected=f"fill exactly one of {', '.join(cols)} (found {', '.join(filled)})",
+    )
+
+
+def _tone_frequency(
+    rownum: int, cells: dict[str, Cell], freq_cols: Sequence[str], opts: Options
+) -> float:
+    fcol = _exactly_one(rownum, cells, freq_cols, "frequency")
+    cell = cells[fcol]
+    unit = {"freq_hz": "Hz", "omega_rad_s": "rad/s", "harmonic": None}[fcol]
+    fval = parse_number(cell, unit=unit, table="sources", row=rownum, column=fcol)
+    if fval < 0:
+        raise InputError("sources", rownum, fcol, cell, "expected a frequency ≥ 0")
+    if fcol == "freq_hz":
+        freq = fval
+    elif fcol == "omega_rad_s":
+        freq = fval / (2 * math.pi)
+    else:
+        if opts.fundamental_hz is None:
+            raise InputError(
+                "sources",
+                rownum,
+                "harmonic",
+                cell,
+                "a harmonic order needs fundamental_hz in the options table",
+            )
+        freq = fval * opts.fundamental_hz
+    return check_frequency(freq, cell, "sources", rownum, fcol)
+
+
+def _tone_phasor(
+    rownum: int, cells: dict[str, Cell], amp_cols: Sequence[str], kind: str, freq: float
+) -> complex:
+    acol = _exactly_one(rownum, cells, amp_cols, "amplitude")
+    amp_cell = cells[acol]
+    amp = parse_number(amp_cell, unit=_AMP_UNIT[kind], table="sources", row=rownum, column=acol)
+    phase_cell = cells.get("phase_deg")
+    phase = (
+        0.0
+        if phase_cell is None
+        else parse_number(phase_cell, unit="°", table="sources", row=rownum, column="phase_deg")
+    )
+    if abs(phase) > _MAX_PHASE_DEG:
+        raise InputError(
+            "sources", rownum, "phase_deg", phase_cell, "expected a phase within ±1e9 degrees"
+        )
+    shape_cell = cells.get("shape")
+    shape = "cos" if shape_cell is None else _text(shape_cell).lower()
+    if shape not in ("cos", "sin"):
+        raise InputError("sources", rownum, "shape", shape_cell, "expected 'cos' or 'sin'")
+    if freq == 0:
+        if phase != 0 or shape != "cos":
+            raise InputError(
+                "sources",
+                rownum,
+                "phase_deg" if phase != 0 else "shape",
+                phase_cell if phase != 0 else shape_cell,
+                "a DC tone (0 Hz) takes no phase or shape; give a negative value for a "
+                "negative DC level",
+            )
+        return complex(amp)  # signed DC value; rms of DC equals its value
+    if amp < 0:
+        raise InputError(
+            "sources",
+            rownum,
+            acol,
+            amp_cell,
+            "an AC amplitude must be ≥ 0 (use phase_deg = 180 to invert)",
+        )
+    peak = amp * math.sqrt(2) if acol == "rms" else amp
+    ang = math.radians(phase - (90.0 if shape == "sin" else 0.0))
+    return complex(peak * math.cos(ang), peak * math.sin(ang))
 
 
 def _noise_row(
-    t: _Table, rownum: int, r: list[Cell], name: str, kind: str, a: str, b: str, cell: Cell
+    rownum: int, cells: dict[str, Cell], name: str, kind: str, a: str, b: str
 ) -> NoiseRow:
     for col in _TONE_ONLY:
-        if t.get(r, col) is not None:
+        if col in cells:
             raise InputError(
                 "sources",
                 rownum,
                 col,
-                t.get(r, col),
+                cells[col],
                 "a noise row (density filled) is not a tone: leave " + col + " empty",
             )
+    cell = cells["density"]
     unit = _DENSITY_UNIT[kind]
     density = parse_number(cell, unit=unit, table="sources", row=rownum, column="density")
     if not density > 0:
         raise InputError(
             "sources", rownum, "density", cell, f"expected a noise density > 0 ({unit})"
         )
-    corner_cell = t.get(r, "corner_hz")
+    corner_cell = cells.get("corner_hz")
     corner = 0.0
     if corner_cell is not None:
         corner = parse_number(
@@ -665,6 +781,7 @@ def _noise_row(
                 corner_cell,
                 "expected a 1/f corner frequency ≥ 0 Hz (0 or empty: white noise)",
             )
+        check_frequency(corner, corner_cell, "sources", rownum, "corner_hz")
     return NoiseRow(rownum, name, kind, a, b, density, corner)
 
 
@@ -701,17 +818,33 @@ def read_options(data: Any) -> Options:
         cell = r[1]
         if _is_blank(cell):
             raise InputError("options", rownum, "value", expected=f"missing value for {key}")
+        if isinstance(cell, str) and _SHEET_ERROR.fullmatch(cell.strip().upper()):
+            raise InputError(
+                "options",
+                rownum,
+                "value",
+                cell,
+                "the cell holds a spreadsheet error; fix the formula or value that feeds it",
+            )
         if key == "ground":
+            if isinstance(cell, bool):
+                raise InputError("options", rownum, "value", cell, "expected a node name")
             values[key] = _text(cell)
         elif key == "fundamental_hz":
             f = parse_number(cell, unit="Hz", table="options", row=rownum, column="value")
             if f <= 0:
                 raise InputError("options", rownum, "value", cell, "fundamental_hz must be > 0")
-            values[key] = f
+            values[key] = check_frequency(f, cell, "options", rownum, "value")
         elif key == "thd_max_order":
             n = parse_number(cell, unit=None, table="options", row=rownum, column="value")
-            if n < 2 or not float(n).is_integer():
-                raise InputError("options", rownum, "value", cell, "expected a whole number ≥ 2")
+            if not (2 <= n <= _MAX_THD_ORDER and float(n).is_integer()):
+                raise InputError(
+                    "options",
+                    rownum,
+                    "value",
+                    cell,
+                    f"expected a whole number 2 … {_MAX_THD_ORDER:,}",
+                )
             values[key] = int(n)
     return Options(**values)
 
@@ -723,9 +856,11 @@ def parse_cell(text: str) -> Any:
     if s == "":
         return None
     try:
-        return float(s)
+        number = float(s)
     except ValueError:
         pass
+    else:  # keep what was typed when it overflows ('1e400'), so errors quote it
+        return number if math.isfinite(number) else s
     if s.upper() in ("TRUE", "FALSE"):
         return s.upper() == "TRUE"
     if len(s) >= 2 and s[0] == s[-1] == '"':

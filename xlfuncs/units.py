@@ -8,6 +8,11 @@ Accepted forms (``unit`` is the symbol expected for the quantity, e.g. ``"F"``):
 * resistor/capacitor letter codes of IEC 60062: ``4k7`` (4.7 k), ``2R2`` (2.2), ``4n7``.
 
 ``M`` is mega and ``m`` is milli; ``f`` is femto while ``F`` is the farad.
+
+Every value returned is finite and its magnitude is 0 or at most ``MAX_MAGNITUDE``
+(1e24 in base units): far beyond any physical part or signal, and small enough that
+the products a solve forms (conductances, powers, squared RMS values) stay finite in
+double precision. Parsing takes time linear in the length of the text.
 """
 
 from __future__ import annotations
@@ -18,7 +23,9 @@ from typing import Any
 
 from .errors import InputError, UnitError
 
-__all__ = ["PREFIXES", "UNIT_NAMES", "parse_number"]
+__all__ = ["MAX_MAGNITUDE", "PREFIXES", "UNIT_NAMES", "check_scalar", "parse_number"]
+
+MAX_MAGNITUDE = 1e24
 
 PREFIXES: dict[str, float] = {
     "f": 1e-15,
@@ -35,7 +42,7 @@ PREFIXES: dict[str, float] = {
 }
 _PREFIX_HELP = "use f p n u µ m k M G T"
 
-# Canonical symbol -> spellings accepted (compared after the rules in _unit_matches).
+# Canonical symbol -> spellings accepted (compared after the rules in _which_unit).
 _UNIT_SPELLINGS: dict[str, tuple[str, ...]] = {
     "Ω": ("Ω", "Ω", "ohm", "ohms"),  # OHM SIGN and GREEK CAPITAL OMEGA
     "H": ("H",),
@@ -69,21 +76,38 @@ UNIT_NAMES: dict[str, str] = {
     "V/√Hz": "volts per root hertz",
     "A/√Hz": "amperes per root hertz",
 }
+# spelling -> canonical symbol; "ohm"/"ohms" also match in any letter case
+_SPELLING: dict[str, str] = {sp: c for c, sps in _UNIT_SPELLINGS.items() for sp in sps}
+_SPELLING_FOLDED = {"ohm": "Ω", "ohms": "Ω"}
 
-_NUMBER = re.compile(r"^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(.*?)\s*$")
-_LETTER_CODE = re.compile(r"^\s*(\d+)([pnuµμmkMGR])(\d+)\s*$")
+# A number at the start of the (stripped) text; re.match stops at the first success, so
+# the scan is linear in the text's length whatever follows the number.
+_NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?")
+_LETTER_CODE = re.compile(r"(\d+)([pnuµμmkMGR])(\d+)")
+_DECIMAL_COMMA = re.compile(r"[+-]?\d+,\d+")
 
 
 def _which_unit(symbol: str) -> str | None:
     """Canonical unit for ``symbol``, or None."""
-    for canon, spellings in _UNIT_SPELLINGS.items():
-        for sp in spellings:
-            if sp.lower() in ("ohm", "ohms"):
-                if symbol.lower() == sp:
-                    return canon
-            elif symbol == sp:
-                return canon
-    return None
+    canon = _SPELLING.get(symbol)
+    if canon is None:
+        canon = _SPELLING_FOLDED.get(symbol.lower())
+    return canon
+
+
+def _finite(number: float, value: Any, table: str, row: int | None, column: str) -> float:
+    if not math.isfinite(number):
+        raise InputError(table, row, column, value, "expected a finite number")
+    if abs(number) > MAX_MAGNITUDE:
+        raise InputError(
+            table,
+            row,
+            column,
+            value,
+            f"magnitude {abs(number):.3g} is beyond {MAX_MAGNITUDE:g} (base units); "
+            "check the exponent and prefix",
+        )
+    return number
 
 
 def parse_number(
@@ -109,7 +133,7 @@ def parse_number(
     Returns
     -------
     float
-        The value in base SI units. Never NaN or infinite.
+        The value in base SI units: finite, magnitude 0 or ≤ ``MAX_MAGNITUDE``.
 
     Examples
     --------
@@ -118,40 +142,48 @@ def parse_number(
     >>> parse_number("4k7", unit="Ω", table="parts", row=3, column="value")
     4700.0
     """
+    if isinstance(value, float):  # the common case first: spreadsheets send floats
+        return _finite(value, value, table, row, column)
     if isinstance(value, bool):
         raise InputError(table, row, column, value, "expected a number, not TRUE/FALSE")
-    if isinstance(value, (int, float)):
-        number = float(value)
-        if not math.isfinite(number):
-            raise InputError(table, row, column, value, "expected a finite number")
-        return number
+    if isinstance(value, int):
+        try:
+            number = float(value)
+        except OverflowError:
+            raise InputError(table, row, column, value, "expected a finite number") from None
+        return _finite(number, value, table, row, column)
     if not isinstance(value, str):
         raise InputError(table, row, column, value, "expected a number or text like '4.7u'")
+    return _parse_text(value, unit, table, row, column)
 
-    code = _LETTER_CODE.match(value)
+
+def _parse_text(value: str, unit: str | None, table: str, row: int | None, column: str) -> float:
+    text = value.strip()
+    code = _LETTER_CODE.fullmatch(text)
     if code:
         whole, letter, frac = code.groups()
         scale = 1.0 if letter == "R" else PREFIXES[letter]
-        return float(f"{whole}.{frac}") * scale
+        return _finite(float(f"{whole}.{frac}") * scale, value, table, row, column)
 
-    match = _NUMBER.match(value)
+    match = _NUMBER.match(text)
     if not match:
         raise InputError(
             table, row, column, value, "expected a number, optionally with an SI prefix (4.7u)"
         )
-    number = float(match.group(1))
-    if not math.isfinite(number):
-        raise InputError(table, row, column, value, "expected a finite number")
-    suffix = match.group(2)
+    comma = _DECIMAL_COMMA.match(text)
+    if comma:
+        raise InputError(table, row, column, value, _decimal_comma_hint(text, comma.end()))
+    number = float(match.group(0))  # range checked once scaled by a prefix
+    suffix = text[match.end() :].strip()
     if suffix == "":
-        return number
+        return _finite(number, value, table, row, column)
 
-    expected_unit = f"{unit} ({UNIT_NAMES[unit]})" if unit else "no unit (a plain ratio)"
+    expected_unit = f"{unit} ({UNIT_NAMES.get(unit, unit)})" if unit else "no unit (a plain ratio)"
     # 1. the suffix is the unit alone
     canon = _which_unit(suffix)
     if canon is not None:
         if canon == unit:
-            return number
+            return _finite(number, value, table, row, column)
         raise UnitError(
             table,
             row,
@@ -162,20 +194,61 @@ def parse_number(
     # 2. prefix, then an optional unit
     head, rest = suffix[0], suffix[1:].strip()
     if head in PREFIXES:
-        if rest == "":
-            return number * PREFIXES[head]
-        canon = _which_unit(rest)
-        if canon is None:
-            raise UnitError(
-                table, row, column, value, f"unknown unit {rest!r}; expected {expected_unit}"
-            )
-        if canon != unit:
-            raise UnitError(
-                table,
-                row,
-                column,
-                value,
-                f"unit {rest!r} does not fit here; expected {expected_unit}",
-            )
-        return number * PREFIXES[head]
+        if rest != "":
+            canon = _which_unit(rest)
+            if canon is None:
+                raise UnitError(
+                    table, row, column, value, f"unknown unit {rest!r}; expected {expected_unit}"
+                )
+            if canon != unit:
+                raise UnitError(
+                    table,
+                    row,
+                    column,
+                    value,
+                    f"unit {rest!r} does not fit here; expected {expected_unit}",
+                )
+        return _finite(number * PREFIXES[head], value, table, row, column)
     raise UnitError(table, row, column, value, f"unknown unit prefix {head!r} ({_PREFIX_HELP})")
+
+
+def _decimal_comma_hint(text: str, end: int) -> str:
+    """'4,7k' → "decimal comma? write 4.7k or 4k7"."""
+    number = text[:end]
+    whole, frac = number.split(",", 1)
+    rest = text[end:].strip()
+    dotted = f"{whole}.{frac}{rest}"
+    if rest == "" and len(frac) == 3:
+        return (
+            f"a comma in a number: write {dotted} (decimal point) or {whole}{frac} (no separator)"
+        )
+    if len(rest) == 1 and rest in PREFIXES:
+        return f"decimal comma? write {dotted} or {whole}{rest}{frac}"
+    return f"decimal comma? write {dotted}"
+
+
+def check_scalar(
+    value: Any,
+    column: str,
+    lo: float,
+    hi: float,
+    what: str,
+    *,
+    lo_open: bool = False,
+    table: str = "argument",
+    row: int | None = None,
+) -> float:
+    """A finite number within ``[lo, hi]`` (``(lo, hi]`` with ``lo_open``), as a float;
+    anything else is a one-line error naming ``column`` and saying ``what`` is expected
+    (the range is appended)."""
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        raise InputError(table, row, column, value, f"expected {what} (a number)")
+    try:
+        v = float(value)
+    except OverflowError:
+        v = math.inf
+    inside = (lo < v if lo_open else lo <= v) and v <= hi
+    if not (math.isfinite(v) and inside):
+        bracket = "(" if lo_open else "["
+        raise InputError(table, row, column, value, f"expected {what} in {bracket}{lo:g}, {hi:g}]")
+    return v

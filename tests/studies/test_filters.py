@@ -328,8 +328,9 @@ def test_error_cells_are_refused_not_read_as_blank():
         inj = ((5.0, COM_ERRORS["#DIV/0!"]),)
         bad_range = call(udf, "CKT_CAP_STEP", 50.0, 3.0, 480.0, 60.0, 3.0, 30.0, 10.0, inj, 0.3)
     assert ok[1] == ["order_nominal", 4.7, "h"]
-    assert bad == [["ERROR: argument, column c_tempco_ppm: '#N/A' — expected a number"]]
-    assert bad_range == [["ERROR: injected row 1, column 2: '#DIV/0!' — expected a number"]]
+    cell = "the cell holds an Excel error"
+    assert bad == [[f"ERROR: argument, column c_tempco_ppm: '#N/A' — {cell}"]]
+    assert bad_range == [[f"ERROR: injected row 1, column 2: '#DIV/0!' — {cell}"]]
 
 
 def test_docstring_examples_run():

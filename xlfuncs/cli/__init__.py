@@ -19,7 +19,7 @@ from .common import XlfuncsFileError, format_table, read_csv_table
 __all__ = ["XlfuncsFileError", "format_table", "main", "read_csv_table"]
 
 # modules of this package that add commands, in the order `--help` lists them
-COMMAND_MODULES = ("network", "workbooks", "duty", "power")
+COMMAND_MODULES = ("network", "frequency", "workbooks", "duty", "power")
 
 
 def _parser() -> argparse.ArgumentParser:

@@ -18,6 +18,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError
+from ..units import check_scalar
 
 __all__ = ["IEEE18_LIMITS", "CapacitorDuty", "capacitor_duty"]
 
@@ -55,12 +56,23 @@ def capacitor_duty(
     line-to-neutral rating. The displacement between V_h and I_h of an ideal capacitor is
     90°, so ΣV_h·I_h is its reactive power.
     """
-    for name, rating in (("rated_kvar", rated_kvar), ("rated_volts", rated_volts)):
-        if not isinstance(rating, (int, float)) or not math.isfinite(rating) or rating <= 0:
-            raise InputError("argument", None, name, rating, "expected a rating > 0")
-    f = np.asarray(freqs_hz, dtype=float)
-    v = np.asarray(v_rms, dtype=float)
-    i = np.asarray(i_rms, dtype=float)
+    rated_kvar = check_scalar(rated_kvar, "rated_kvar", 1e-6, 1e7, "a rating in kvar")
+    rated_volts = check_scalar(rated_volts, "rated_volts", 1e-3, 2e6, "a rated voltage in V")
+    f = np.asarray(freqs_hz, dtype=float).reshape(-1)
+    v = np.asarray(v_rms, dtype=float).reshape(-1)
+    i = np.asarray(i_rms, dtype=float).reshape(-1)
+    if not (f.size == v.size == i.size):
+        raise InputError(
+            "argument",
+            None,
+            "v_rms",
+            None,
+            f"expected one value per frequency: {f.size} frequencies, {v.size} voltages, "
+            f"{i.size} currents",
+        )
+    for name, arr in (("freqs_hz", f), ("v_rms", v), ("i_rms", i)):
+        if not np.all(np.isfinite(arr)) or np.any(arr < 0):
+            raise InputError("argument", None, name, None, "expected finite values ≥ 0")
     peak_factor = np.where(f == 0, 1.0, math.sqrt(2))
     q_rated = rated_kvar * 1e3
     i_rated = q_rated / rated_volts

@@ -11,8 +11,15 @@ import math
 from dataclasses import dataclass
 
 from ..errors import InputError
+from ..units import check_scalar
 
 __all__ = ["Detuning", "detuning"]
+
+# argument ranges: wide around practice, tight enough that every result is finite
+KVAR_RANGE = (1e-6, 1e7)  # up to 10 Gvar, beyond any bank
+VOLTS_RANGE = (1e-3, 2e6)  # up to 2 MV, beyond any transmission voltage
+FUNDAMENTAL_RANGE_HZ = (1.0, 1e5)
+P_RANGE = (1e-6, 0.99)  # tuned order 1000 down to 1.005
 
 
 @dataclass(frozen=True)
@@ -64,8 +71,9 @@ def detuning(
 ) -> Detuning:
     """Size the reactor for a bank of ``kvar`` rated at ``volts`` (its own rating).
 
-    Give either ``p`` (0 < p < 1) or the tuned ``order`` (> 1); h = 1/√p.
-    X_C = V²/Q at the fundamental, X_L = p·X_C.
+    Give either ``p`` or the tuned ``order``; h = 1/√p. X_C = V²/Q at the fundamental,
+    X_L = p·X_C. Ranges: kvar 1e-6 … 1e7, volts 1e-3 … 2e6, fundamental 1 Hz … 100 kHz,
+    p 1e-6 … 0.99 (order 1.005 … 1000).
 
     Examples
     --------
@@ -76,20 +84,19 @@ def detuning(
     >>> round(d.x_c_ohm, 3), round(d.l_henry * 1e3, 3), round(d.tuned_hz)
     (3.445, 0.768, 189)
     """
-    for name, v in (("kvar", kvar), ("volts", volts), ("fundamental_hz", fundamental_hz)):
-        if not isinstance(v, (int, float)) or not math.isfinite(v) or v <= 0:
-            raise InputError("argument", None, name, v, "expected a number > 0")
+    kvar = check_scalar(kvar, "kvar", *KVAR_RANGE, "a bank rating in kvar")
+    volts = check_scalar(volts, "volts", *VOLTS_RANGE, "a rated voltage in V")
+    fundamental_hz = check_scalar(
+        fundamental_hz, "fundamental_hz", *FUNDAMENTAL_RANGE_HZ, "a fundamental in Hz"
+    )
     if (p is None) == (order is None):
         raise InputError("argument", None, "p", p, "give either p or the tuned order, not both")
     if p is not None:
-        if not 0 < p < 1:
-            raise InputError("argument", None, "p", p, "expected 0 < p < 1 (e.g. 0.07 for 7 %)")
-        pp = float(p)
+        pp = check_scalar(p, "p", *P_RANGE, "a reactor ratio p (0.07 for 7 %)")
     else:
-        assert order is not None
-        if not order > 1:
-            raise InputError("argument", None, "order", order, "expected a tuned order > 1")
-        pp = 1.0 / float(order) ** 2
+        lo, hi = 1.0 / math.sqrt(P_RANGE[1]), 1.0 / math.sqrt(P_RANGE[0])
+        h_order = check_scalar(order, "order", lo, hi, "a tuned order")
+        pp = 1.0 / h_order**2
     w = 2 * math.pi * fundamental_hz
     x_c = volts**2 / (kvar * 1e3)
     x_l = pp * x_c

@@ -7,20 +7,31 @@ h = k·p ± 1 with magnitudes I_h = I_1/h (common practice; e.g. six-pulse: 5, 7
 
 from __future__ import annotations
 
-import math
 from collections.abc import Sequence
 
 from ..errors import InputError
+from ..units import MAX_MAGNITUDE, check_scalar
 
 __all__ = ["characteristic_orders", "drive_sources"]
+
+_MAX_SPECTRUM_ORDER = 10_000.0
+_MAX_PERCENT = 1000.0
 
 
 def characteristic_orders(pulses: int = 6, max_order: int = 25) -> list[int]:
     """Orders k·pulses ± 1 (k ≥ 1) up to ``max_order``."""
-    if pulses not in (6, 12, 18, 24):
+    if isinstance(pulses, bool) or pulses not in (6, 12, 18, 24):
         raise InputError("argument", None, "pulses", pulses, "expected 6, 12, 18 or 24")
-    if not 2 <= max_order <= 200:
-        raise InputError("argument", None, "max_order", max_order, "expected 2 … 200")
+    if (
+        isinstance(max_order, bool)
+        or not isinstance(max_order, (int, float))
+        or not float(max_order).is_integer()
+        or not 2 <= max_order <= 200
+    ):
+        raise InputError(
+            "argument", None, "max_order", max_order, "expected a whole number 2 … 200"
+        )
+    pulses, max_order = int(pulses), int(max_order)
     out = []
     k = 1
     while k * pulses - 1 <= max_order:
@@ -49,7 +60,9 @@ def drive_sources(
     i1_rms : float
         Fundamental current of the drive (A rms).
     spectrum : sequence of (order, percent of I1), optional
-        A measured or maker's spectrum; replaces the ideal I1/h law.
+        A measured or maker's spectrum; replaces the ideal I1/h law. Orders 1 < h ≤ 10000
+        (interharmonics allowed), each once; percentages 0 … 1000. Rows in messages are
+        counted as in a table whose header is row 1.
     phase_deg : float
         Phase of every harmonic tone (a screening choice: aligned tones give the highest
         peaks; RMS and THD do not depend on it).
@@ -59,25 +72,53 @@ def drive_sources(
     The source pushes current into ``to_node`` (its current flows from ``from_node`` to
     ``to_node`` through it); for a drive injecting into a bus use ``from = GND``, ``to = bus``.
     """
-    if not math.isfinite(i1_rms) or i1_rms <= 0:
-        raise InputError("argument", None, "i1_rms", i1_rms, "expected a current > 0 A")
+    for col, text in (("source_name", name), ("node_from", from_node), ("node_to", to_node)):
+        if not isinstance(text, str) or not text.strip():
+            raise InputError("argument", None, col, text, "expected a name")
+    if from_node.strip().casefold() == to_node.strip().casefold():
+        raise InputError(
+            "argument", None, "node_to", to_node, "expected a node other than node_from"
+        )
+    i1_rms = check_scalar(i1_rms, "i1_rms", 0.0, MAX_MAGNITUDE, "a current in A", lo_open=True)
+    phase_deg = check_scalar(phase_deg, "phase_deg", -1e9, 1e9, "a phase in degrees")
+    ideal = characteristic_orders(pulses, max_order)  # validates both, used or not
     rows: list[list[object]] = [["name", "kind", "from", "to", "harmonic", "rms", "phase_deg"]]
     if include_fundamental:
-        rows.append([name, "I", from_node, to_node, 1.0, float(i1_rms), float(phase_deg)])
+        rows.append([name, "I", from_node, to_node, 1.0, i1_rms, phase_deg])
     if spectrum is None:
-        for h in characteristic_orders(pulses, max_order):
-            rows.append([name, "I", from_node, to_node, float(h), i1_rms / h, float(phase_deg)])
+        for h in ideal:
+            rows.append([name, "I", from_node, to_node, float(h), i1_rms / h, phase_deg])
     else:
-        for i, (order, pct) in enumerate(spectrum):
-            if not (math.isfinite(order) and order > 1) or not (math.isfinite(pct) and pct >= 0):
-                raise InputError(
-                    "spectrum",
-                    i + 2,
-                    "order" if not h > 1 else "percent",
-                    (h, pct),
-                    "expected an order > 1 and a percentage ≥ 0",
-                )
-            rows.append(
-                [name, "I", from_node, to_node, float(h), i1_rms * pct / 100, float(phase_deg)]
+        if len(spectrum) == 0:
+            raise InputError("spectrum", None, None, expected="no rows: give order | percent rows")
+        seen: dict[float, int] = {}
+        for i, pair in enumerate(spectrum):
+            row = i + 2
+            if not isinstance(pair, (tuple, list)) or len(pair) != 2:
+                raise InputError("spectrum", row, None, pair, "expected order | percent")
+            order = check_scalar(
+                pair[0],
+                "order",
+                1.0,
+                _MAX_SPECTRUM_ORDER,
+                "a harmonic order above 1",
+                lo_open=True,
+                table="spectrum",
+                row=row,
             )
+            pct = check_scalar(
+                pair[1],
+                "percent",
+                0.0,
+                _MAX_PERCENT,
+                "a percentage of I1",
+                table="spectrum",
+                row=row,
+            )
+            if order in seen:
+                raise InputError(
+                    "spectrum", row, "order", pair[0], f"order given twice (row {seen[order]})"
+                )
+            seen[order] = row
+            rows.append([name, "I", from_node, to_node, order, i1_rms * pct / 100, phase_deg])
     return rows

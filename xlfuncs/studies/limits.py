@@ -27,6 +27,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError
+from ..tables import FREQ_RANGE_HZ
+from ..units import check_scalar
 
 __all__ = [
     "CurrentCheck",
@@ -59,12 +61,17 @@ _TABLE4 = (
     (50.0, (3.0, 1.5, 1.15, 0.45, 0.22), 3.75),  # from memory
 )
 _BANDS = (11, 17, 23, 35, 51)  # exclusive upper bounds of the five odd-order bands
+BUS_KV_RANGE = (1e-3, 2000.0)  # 1 V … 2000 kV (above any transmission voltage)
+ISC_IL_RANGE = (1e-6, 1e7)
+
+
+def _bus_kv(bus_kv: float) -> float:
+    return check_scalar(bus_kv, "bus_kv", *BUS_KV_RANGE, "a bus voltage in kV")
 
 
 def voltage_limits_pct(bus_kv: float) -> tuple[float, float]:
     """(individual %, THD %) of IEEE Std 519-2014 Table 1 for a PCC bus voltage in kV."""
-    if not np.isfinite(bus_kv) or bus_kv <= 0:
-        raise InputError("argument", None, "bus_kv", bus_kv, "expected a bus voltage > 0 kV")
+    bus_kv = _bus_kv(bus_kv)
     for hi, ind, thd in _TABLE1:
         if bus_kv <= hi:
             return ind, thd
@@ -72,8 +79,7 @@ def voltage_limits_pct(bus_kv: float) -> tuple[float, float]:
 
 
 def _current_table(bus_kv: float) -> tuple[tuple[float, tuple[float, ...], float], ...]:
-    if not np.isfinite(bus_kv) or bus_kv <= 0:
-        raise InputError("argument", None, "bus_kv", bus_kv, "expected a bus voltage > 0 kV")
+    bus_kv = _bus_kv(bus_kv)
     if bus_kv <= 69.0:
         return _TABLE2
     if bus_kv <= 161.0:
@@ -82,8 +88,7 @@ def _current_table(bus_kv: float) -> tuple[tuple[float, tuple[float, ...], float
 
 
 def _row(isc_il: float, bus_kv: float) -> tuple[tuple[float, ...], float]:
-    if not np.isfinite(isc_il) or isc_il <= 0:
-        raise InputError("argument", None, "isc_il", isc_il, "expected Isc/IL > 0")
+    isc_il = check_scalar(isc_il, "isc_il", *ISC_IL_RANGE, "a ratio Isc/IL")
     table = _current_table(bus_kv)
     chosen = table[0]
     for row in table:
@@ -92,14 +97,19 @@ def _row(isc_il: float, bus_kv: float) -> tuple[tuple[float, ...], float]:
     return chosen[1], chosen[2]
 
 
-def current_limit_pct(h: int, isc_il: float, bus_kv: float = 13.8, edition: int = 2014) -> float:
-    """Limit for harmonic order ``h`` in % of I_L (0 above order 50 means 'not limited' → inf)."""
-    if edition not in (2014, 2022):
+def current_limit_pct(
+    h: int, isc_il: float, bus_kv: float = 13.8, edition: int = 2014
+) -> float | None:
+    """Limit for harmonic order ``h`` in % of I_L; None above order 50 (not limited)."""
+    if isinstance(edition, bool) or edition not in (2014, 2022):
         raise InputError("argument", None, "edition", edition, "expected 2014 or 2022")
-    if h < 2 or int(h) != h:
+    h_num = check_scalar(h, "order", 2.0, 1e6, "a whole harmonic order")
+    if not h_num.is_integer():
         raise InputError("argument", None, "order", h, "expected a whole harmonic order ≥ 2")
+    h = int(h_num)
     if h > 50:
-        return float("inf")
+        _row(isc_il, bus_kv)  # the other arguments are still checked
+        return None
     bands, _tdd = _row(isc_il, bus_kv)
     k = next(i for i, hi in enumerate(_BANDS) if h < hi)
     limit = bands[k]
@@ -133,6 +143,19 @@ class CurrentCheck:
 
 
 def _harmonic_rms(freqs_hz: np.ndarray, rms: np.ndarray, f1: float) -> dict[int, float]:
+    f1 = check_scalar(f1, "fundamental_hz", *FREQ_RANGE_HZ, "a fundamental in Hz")
+    freqs_hz = np.asarray(freqs_hz, dtype=float).reshape(-1)
+    rms = np.asarray(rms, dtype=float).reshape(-1)
+    if freqs_hz.size != rms.size:
+        raise InputError(
+            "argument",
+            None,
+            "rms",
+            None,
+            f"expected one value per frequency: {freqs_hz.size} frequencies, {rms.size} values",
+        )
+    if not (np.all(np.isfinite(freqs_hz)) and np.all(np.isfinite(rms)) and np.all(rms >= 0)):
+        raise InputError("argument", None, "rms", None, "expected finite values ≥ 0")
     order = freqs_hz / f1
     out: dict[int, float] = {}
     for o, r in zip(order, rms, strict=True):
@@ -182,13 +205,13 @@ def check_current(
 
     Percentages are of ``i_l``, the maximum demand load current (RMS, same unit).
     """
-    if not np.isfinite(i_l) or i_l <= 0:
-        raise InputError("argument", None, "i_l", i_l, "expected the demand current I_L > 0")
+    i_l = check_scalar(i_l, "i_l", 0.0, 1e24, "the demand current I_L", lo_open=True)
     hv = _harmonic_rms(np.asarray(freqs_hz), np.asarray(rms), fundamental_hz)
     rows = []
     for h in sorted(k for k in hv if 2 <= k <= 50):
         pct = 100 * hv[h] / i_l
         lim = current_limit_pct(h, isc_il, bus_kv, edition)
+        assert lim is not None  # orders 2…50 are limited
         rows.append((f"h{h}", pct, lim, pct <= lim))
     tdd = 100 * float(np.sqrt(sum(hv[h] ** 2 for h in hv if 2 <= h <= 50))) / i_l
     tdd_lim = tdd_limit_pct(isc_il, bus_kv)

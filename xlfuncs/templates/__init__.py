@@ -65,13 +65,16 @@ from pathlib import Path
 from .builder import CAUTION, DEMO, build
 from .dclink import TEMPLATE as DCLINK
 from .detuned import TEMPLATE as DETUNED
+from .input_filter import TEMPLATE as INPUT_FILTER
 from .model import Template
 from .plant import TEMPLATE as PLANT
 from .twelve_pulse import TEMPLATE as TWELVE
 
 __all__ = ["CAUTION", "DEMO", "TEMPLATES", "Template", "build", "build_all", "main"]
 
-TEMPLATES: dict[str, Template] = {t.file: t for t in (PLANT, DETUNED, DCLINK, TWELVE)}
+TEMPLATES: dict[str, Template] = {
+    t.file: t for t in (PLANT, DETUNED, DCLINK, INPUT_FILTER, TWELVE)
+}
 
 
 def build_all(out_dir: str | Path, names: list[str] | None = None) -> list[Path]:

@@ -100,7 +100,14 @@ def scan_blocks(f_stop: str) -> tuple[Block, ...]:
 def resonance_block(f_stop: str, title: str) -> Block:
     return Block(
         "res", title, f'CKT_RESONANCES(parts_tbl,"BUS",f_hz,{f_stop},400,opts,sources_tbl)',
-        (Col("kind", width=12), Col("freq_hz", "hz"), Col("order", "2"), Col("z_ohm", "sig")),
+        (
+            Col("kind", width=12),
+            Col("freq_hz", "hz"),
+            Col("order", "2"),
+            Col("z_ohm", "sig"),
+            Col("damping", "4"),
+            Col("q", "1"),
+        ),
         8,
     )
 

@@ -451,8 +451,11 @@ TEMPLATE = Template(
             "R ‖ L; drives ideal current sources.",
             EQ_NOTES,
             "The resonance list and the impedance scan use the positive-sequence network with "
-            "the drives open and the utility as its impedance. The expanded network is on the "
-            "Data sheet (every ohm, with its source).",
+            "the drives open and the utility as its impedance. Its resistances grow with √h, so "
+            "the resonances are found by a dense scan (200 points per decade, densified at the "
+            "network's natural frequencies) refined by bisection: a search, not a proof that "
+            "none is missed. The expanded network is on the Data sheet (every ohm, with its "
+            "source).",
             "The bus voltage waveform and its true peak are rebuilt from the study's bus table "
             "(one source per order across 1 Ω on the Network sheet).",
         )),
