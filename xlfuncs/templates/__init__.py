@@ -65,6 +65,7 @@ from pathlib import Path
 from .builder import CAUTION, DEMO, build
 from .dclink import TEMPLATE as DCLINK
 from .detuned import TEMPLATE as DETUNED
+from .filter_design import TEMPLATE as FILTER_DESIGN
 from .input_filter import TEMPLATE as INPUT_FILTER
 from .model import Template
 from .plant import TEMPLATE as PLANT
@@ -73,7 +74,7 @@ from .twelve_pulse import TEMPLATE as TWELVE
 __all__ = ["CAUTION", "DEMO", "TEMPLATES", "Template", "build", "build_all", "main"]
 
 TEMPLATES: dict[str, Template] = {
-    t.file: t for t in (PLANT, DETUNED, DCLINK, INPUT_FILTER, TWELVE)
+    t.file: t for t in (PLANT, DETUNED, DCLINK, INPUT_FILTER, FILTER_DESIGN, TWELVE)
 }
 
 

@@ -420,12 +420,11 @@ def _inputs(book: Book, page: Page) -> None:
     page.row += 1
     for group in book.t.inputs:
         if isinstance(group, Section):
-            top = page.row
             page.title(group.title)
             for inp in group.items:
                 _input_row(book, page, page.row, inp)
                 page.row += 1
-            page.keep.append((top, page.row - 1))  # a section never straddles two pages
+            page.keep.append((page.row - len(group.items) - 1, page.row - 1))
         else:
             _grid(book, page, group)
         page.row += 1

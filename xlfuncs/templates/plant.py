@@ -142,13 +142,6 @@ def order_pick(block: str, col: int, h: str = "{@h}") -> str:
     return f"INDEX({b},MATCH({h},INDEX({b},0,1),0),{col})"
 
 
-def after(first: str, expr: str) -> str:
-    """``expr`` once ``first`` is a number, else what ``first`` shows (its message): for
-    results whose tables are filled from an earlier result's block."""
-    return f"IF(ISNUMBER({first}),{expr},{first})"
-
-
-
 # ------------------------------------------------------------------ the plant
 SPECTRUM = spectrum_grid(cm.ORDERS, cm.DRIVE_PCT)
 N_ORD = len(cm.ORDERS)
@@ -246,14 +239,16 @@ HARM = Table("harm", "Harmonic table at the injected orders", (
     '=IF(ISNUMBER(res_order),ABS(res_order-{@h})/{@h}*100,"n/a")',
 )) for k in range(N_ORD)), excel=False)
 
-XSPEC = Table("xspec", "Transformer current spectrum for C57.110 (LV line current, % of I1)", (
-    Col("order", "int", key="order"), Col("pct", "2", key="pct"),
-    Col("I_h, A rms", "1", 11, key="i"),
-), (
-    Row((1, 100, "=" + order_pick("itx", 4, "1"))),
-    *(Row((f"=INDEX(drive_orders,{k + 1})", "=" + order_pick("itx", 5, "{@order}"),
-           "=" + order_pick("itx", 4, "{@order}"))) for k in range(N_ORD)),
-), excel=False)
+DERATE_ROWS = 13  # header, the C57.110 factors, I_rms_a, I_rated_a, load_pu, load_over_I_max
+
+
+def derating_block(key: str, item: str, title: str, when: str | None = None) -> Block:
+    """IEEE C57.110 derating of a transformer of the study for the current the study puts
+    through it (its star winding), without the long basis row (the Notes carry it)."""
+    return Block(key, title, head_rows(
+        f'CKT_ITEM_XFMR_DERATE({EQ},"{item}",tx_pec_pu,{SO},tx_posl_pu)', DERATE_ROWS),
+        (Col("quantity", width=22), Col("value", "4", 14)), DERATE_ROWS, when=when)
+
 
 RESULTS = (
     Section("Network values derived from the inputs", (
@@ -310,11 +305,13 @@ RESULTS = (
         Result("cap_vpk_duty", "Capacitor peak voltage / rated peak",
                f'=IF({BANK},{got("duty", "peak voltage", "ratio", "quantity")},"n/a")', "ratio", "3",
                "IEEE Std 18 limit 1.20"),
-        Result("tx_i_pu", "Transformer RMS current / rated", "=IF(ISNUMBER(pcc_i_rms),pcc_i_rms/tx_i_rated,pcc_i_rms)", "pu", "3"),
+        Result("tx_i_pu", "Transformer RMS current / rated",
+               "=" + got("xfd", "load_pu", "value", "quantity"), "pu", "3",
+               "LV line current of the study"),
         Result("tx_fhl", "Harmonic loss factor F_HL (eddy loss)",
-               "=" + after("pcc_i_rms", got("xfd", "F_HL", "value", "quantity")), "", "3", "IEEE Std C57.110"),
+               "=" + got("xfd", "F_HL", "value", "quantity"), "", "3", "IEEE Std C57.110"),
         Result("tx_imax_pu", "Transformer permissible RMS current (C57.110)",
-               "=" + after("pcc_i_rms", got("xfd", "I_max_pu", "value", "quantity")), "pu", "3",
+               "=" + got("xfd", "I_max_pu", "value", "quantity"), "pu", "3",
                "IEEE Std C57.110, winding hot spot"),
     )),
     harmonics_block("vbus", "Bus voltage per order (line-to-neutral)",
@@ -334,11 +331,8 @@ RESULTS = (
           f'CKT_ITEM_CAPDUTY({EQ},"C1",{SO})',
           (Col("quantity", width=16), Col("value", "2"), Col("rated", "2"), Col("ratio", "3"),
            Col("limit", "2"), Col("pass")), 6, when=BANK),
-    XSPEC,
-    Block("xfd", "Transformer derating for the harmonic load current (IEEE Std C57.110, formulas "
-          "from memory; I_max_pu for the winding hot spot)",
-          head_rows("CKT_XFMR_DERATE({xspec},tx_pec_pu,tx_posl_pu)", 9),
-          (Col("quantity", width=22), Col("value", "4", 14)), 9),
+    derating_block("xfd", "T1", "Transformer derating for its harmonic load current (IEEE Std "
+                   "C57.110, formulas from memory; I_max_pu for the winding hot spot)"),
 )
 
 CHECKS = (

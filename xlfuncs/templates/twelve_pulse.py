@@ -32,11 +32,10 @@ from .plant import (
     SO,
     STUDY_OPTS,
     USING,
-    after,
+    derating_block,
     equipment,
     got,
     harmonics_block,
-    head_rows,
     order_pick,
     spectra_table,
     spectrum_grid,
@@ -124,28 +123,6 @@ CANCEL = Table("cancel", "Harmonic currents per order: each transformer vs the c
 )) for k in range(N_ORD)), excel=False)
 
 
-def _per_unit(block: str) -> str:
-    """A transformer's RMS current over its rated current, or the block's message."""
-    return spilled(block, "order", pick(block, "total", "i_rms") + "/tx_i_rated")
-
-
-def _xspec(key: str, block: str, title: str) -> Table:
-    return Table(key, title, (
-        Col("order", "int", key="order"), Col("pct", "2", key="pct"),
-        Col("I_h, A rms", "3", 11, key="i")), (
-        Row((1, 100, "=" + order_pick(block, 4, "1"))),
-        *(Row((f"=INDEX(drive_orders,{k + 1})", "=" + order_pick(block, 5, "{@order}"),
-               "=" + order_pick(block, 4, "{@order}"))) for k in range(N_ORD)),
-    ), excel=False)
-
-
-def _derate(key: str, spec: str, when: str | None, name: str) -> Block:
-    return Block(key, f"{name} derating for its harmonic load current (IEEE Std C57.110, formulas "
-                 "from memory; I_max_pu for the winding hot spot)",
-                 head_rows(f"CKT_XFMR_DERATE({{{spec}}},tx_pec_pu,tx_posl_pu)", 9),
-                 (Col("quantity", width=22), Col("value", "4", 14)), 9, when=when)
-
-
 def _v519(key: str, bus: str, title: str) -> Block:
     return Block(key, title, f'CKT_BUS_V519({EQ},"{bus}",{SO})', cm.V519_COLS, 13)
 
@@ -168,8 +145,6 @@ RESULTS = (
         Result("isc_a", "Short-circuit current at the PCC", "=ssc_mva*1E3/(SQRT(3)*kv_pcc)",
                "A", "thou", "utility alone"),
         Result("isc_il", "Isc / I_L", "=isc_a/i_l", "", "1", "selects the IEEE 519 Table 2 row"),
-        Result("tx_i_rated", "Transformer rated HV current", "=tx_kva/(SQRT(3)*kv_pcc)", "A",
-               "2"),
         Result("tx_pec_pu", "Winding eddy loss P_EC-R (rated current)",
                "=tx_ec_share*tx_tsl_pu", "pu of I²R", "3"),
         Result("tx_posl_pu", "Other stray loss P_OSL-R (rated current)",
@@ -195,13 +170,13 @@ RESULTS = (
                "%", "2", "no cancellation on the drives' own buses"),
         Result("lv2_thd_pct", "LV2 (drive 2 bus) voltage THD", "=" + got("vl2", "THD", "percent", "item"),
                "%", "2"),
-        Result("t1_i_pu", "T1 RMS current / rated", "=" + _per_unit("it1"), "pu", "3"),
+        Result("t1_i_pu", "T1 RMS current / rated", "=" + got("xd1", "load_pu", "value", "quantity"), "pu", "3"),
         Result("t1_imax_pu", "T1 permissible RMS current (C57.110)",
-               "=" + after("t1_i_pu", got("xd1", "I_max_pu", "value", "quantity")), "pu", "3",
+               "=" + got("xd1", "I_max_pu", "value", "quantity"), "pu", "3",
                "IEEE Std C57.110, winding hot spot"),
-        Result("t2_i_pu", "T2 RMS current / rated", "=" + _per_unit("it2"), "pu", "3"),
+        Result("t2_i_pu", "T2 RMS current / rated", f'=IF({D2_ON},{got("xd2", "load_pu", "value", "quantity")},"n/a")', "pu", "3"),
         Result("t2_imax_pu", "T2 permissible RMS current (C57.110)",
-               f'=IF({D2_ON},{after("t2_i_pu", got("xd2", "I_max_pu", "value", "quantity"))},"n/a")', "pu", "3",
+               f'=IF({D2_ON},{got("xd2", "I_max_pu", "value", "quantity")},"n/a")', "pu", "3",
                "IEEE Std C57.110, winding hot spot"),
     )),
     CANCEL,
@@ -218,10 +193,10 @@ RESULTS = (
     _v519("v519", "PCC", "IEEE 519 voltage check at the PCC"),
     _v519("vl1", "LV1", "IEEE 519 voltage check at LV1 (drive 1 bus)"),
     _v519("vl2", "LV2", "IEEE 519 voltage check at LV2 (drive 2 bus)"),
-    _xspec("xs1", "it1", "T1 current spectrum for C57.110 (% of its I1)"),
-    _derate("xd1", "xs1", None, "T1"),
-    _xspec("xs2", "it2", "T2 current spectrum for C57.110 (% of its I1)"),
-    _derate("xd2", "xs2", D2_ON, "T2"),
+    derating_block("xd1", "T1", "T1 derating for its harmonic load current (IEEE Std C57.110, "
+                   "formulas from memory; LV star winding)"),
+    derating_block("xd2", "T2", "T2 derating for its harmonic load current (IEEE Std C57.110, "
+                   "formulas from memory; LV star winding)", D2_ON),
 )
 
 CHECKS = (
