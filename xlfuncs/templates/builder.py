@@ -145,6 +145,8 @@ class Binding:
             return _a1(r, pos.col + pos.ids.index(key[1:]), absolute=False)
         if key in self.blocks:
             pos = self.blocks[key]
+            if col == "@":  # the spilling cell itself: a header, or a one-line message
+                return pos.anchor()
             return f"_xlfn.ANCHORARRAY({pos.anchor()})" if col is None else pos.column(col)
         pos = self.tables[key]
         return pos.area() if col is None else pos.column(col)
@@ -847,6 +849,7 @@ def _scenarios(book: Book, page: Page, cases: Page) -> None:
     book.verdict_colours(page.ws, f"{_a1(rows['result'], 2, False)}:{_a1(r, last, False)}")
     page.row = r + 2
     page.wrap(page.row, 0, 3 + n, sc.note)
+    page.keep.append((top, page.row))  # the results matrix, its verdicts and the note together
     page.row += 2
 
 

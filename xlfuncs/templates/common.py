@@ -120,7 +120,7 @@ def first_resonance(kind: str, col: int) -> str:
     """The first resonance of a kind from the resonance list, or "none found"; an error
     line of the function stays visible as it is."""
     return (
-        f'=IF(LEFT(INDEX({{res}},1,1),6)="ERROR:",INDEX({{res}},1,1),IFERROR(INDEX('
+        f'=IF(LEFT({{res:@}},6)="ERROR:",{{res:@}},IFERROR(INDEX('
         f'_xlfn._xlws.FILTER(INDEX({{res}},0,{col}),INDEX({{res}},0,1)="{kind}"),1,1),'
         f'"none found"))'
     )
