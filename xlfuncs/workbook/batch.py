@@ -23,7 +23,8 @@ Re-running the same command resumes: finished cases are skipped, failed ones tri
 (``--force`` starts over). Optionally one recalculated workbook per case goes to
 ``DIR/books/``.
 
-Parallel work: ``-j N`` runs cases in N local processes; ``--cluster ADDRESS`` sends them
+Parallel work: ``-j N`` runs cases in N local processes (this one, whose template is loaded
+already, and N - 1 workers); ``--cluster ADDRESS`` sends them
 to an existing Dask distributed scheduler (same record and resume behaviour). Ctrl-C stops
 the run cleanly: workers ignore the interrupt, cases already finished stay recorded, the
 summary is rebuilt, and :class:`BatchInterrupted` (a ``KeyboardInterrupt``) carries the
@@ -45,8 +46,9 @@ import tempfile
 import threading
 import time
 import zlib
+from collections import deque
 from collections.abc import Callable, Iterable, Iterator, Sequence
-from concurrent.futures import Future, ProcessPoolExecutor, as_completed
+from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wait
 from contextlib import contextmanager, suppress
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -733,26 +735,42 @@ def _run_in_processes(
     jobs: int,
     record: Callable[[Iterable[dict[str, Any]]], None],
 ) -> None:
+    """``jobs`` processes work through the cases: this one (whose template is already
+    loaded, so it starts at once) and ``jobs - 1`` workers, which start meanwhile."""
     # "spawn": a forked child would inherit the engine's locks mid-state
     ctx = multiprocessing.get_context("spawn")
-    pool = ProcessPoolExecutor(max_workers=jobs, mp_context=ctx, initializer=_ignore_interrupts)
-    futs: list[Future[list[dict[str, Any]]]] = []
-    recorded: set[int] = set()
+    workers = jobs - 1
+    pool = ProcessPoolExecutor(max_workers=workers, mp_context=ctx, initializer=_ignore_interrupts)
+    pending = deque(_chunks(todo, chunk))
+    futs: set[Future[list[dict[str, Any]]]] = set()
+
+    def submit() -> None:
+        while pending and len(futs) < 2 * workers:
+            futs.add(pool.submit(_run_chunk, template, pending.popleft(), list(collect),
+                                 books_dir, None))  # fmt: skip
+
+    def collect_done() -> None:
+        for f in [f for f in futs if f.done()]:
+            futs.discard(f)
+            record(f.result())
+
     try:
         with _no_interrupts():  # workers start with Ctrl-C ignored
-            for ch in _chunks(todo, chunk):
-                futs.append(pool.submit(_run_chunk, template, ch, list(collect), books_dir, None))
-        for fut in as_completed(futs):
-            recorded.add(id(fut))
-            record(fut.result())
+            submit()
+        while pending or futs:
+            collect_done()
+            submit()
+            if pending:
+                record(_run_chunk(template, pending.popleft(), collect, books_dir, None))
+            elif futs:
+                wait(futs, return_when=FIRST_COMPLETED)
     except KeyboardInterrupt:
         with _no_interrupts():
             for f in futs:
                 f.cancel()
             pool.shutdown(wait=True, cancel_futures=True)
             for f in futs:  # chunks that finished meanwhile are kept
-                done = id(f) not in recorded and f.done() and not f.cancelled()
-                if done and f.exception() is None:
+                if f.done() and not f.cancelled() and f.exception() is None:
                     record(f.result())
         raise
     finally:

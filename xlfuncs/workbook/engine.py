@@ -35,6 +35,7 @@ from dataclasses import dataclass
 from typing import Any, Protocol
 
 from ..errors import WorkbookError
+from .cells import cell_ref, parse_range
 from .safety import DEFAULT_LIMITS, Limits
 
 __all__ = [
@@ -410,16 +411,13 @@ class FormualizerEngine:
         return _to_python(self._call("reading a cell", self._book.get_value, sheet, row, col))
 
     def spill_extent(self, sheet: str, row: int, col: int) -> tuple[int, int, int, int] | None:
-        from openpyxl.utils.cell import range_boundaries
-
         addr = f"{_quote(sheet)}!{_a1(row, col)}"
         info = self._call("inspecting a cell", self._book.inspect_cell, addr)
         spill = info.to_dict()["cell"].get("spill")
         if not spill or spill.get("kind") != "Anchor" or not spill.get("extent"):
             return None
         ref = spill["extent"].rsplit("!", 1)[-1]
-        c1, r1, c2, r2 = range_boundaries(ref)
-        return int(r1), int(c1), int(r2), int(c2)
+        return parse_range(ref)
 
     def named_ranges(self) -> dict[str, NamedRange]:
         out: dict[str, NamedRange] = {}
@@ -436,9 +434,7 @@ class FormualizerEngine:
 
 
 def _a1(row: int, col: int) -> str:
-    from openpyxl.utils import get_column_letter
-
-    return f"{get_column_letter(col)}{row}"
+    return cell_ref(row, col)
 
 
 _PLAIN_SHEET = re.compile(r"^[A-Za-z_][A-Za-z0-9_.]*$")

@@ -29,15 +29,15 @@ import tempfile
 import zipfile
 from collections.abc import Iterable
 from dataclasses import dataclass, field
+from functools import lru_cache
 from pathlib import Path, PurePosixPath
 from typing import Any
 from xml.sax.saxutils import escape, unescape
 
 from defusedxml.ElementTree import fromstring
-from openpyxl.utils import get_column_letter
-from openpyxl.utils.cell import column_index_from_string, coordinate_from_string
 
 from ..errors import WorkbookError
+from .cells import cell_ref, col_index, parse_range
 from .engine import CellError
 from .safety import DEFAULT_LIMITS, Archive, Limits, read_archive
 
@@ -79,13 +79,8 @@ def _attrs(tag: str) -> dict[str, str]:
     return dict(_ATTR.findall(tag))
 
 
-def _ref(row: int, col: int) -> str:
-    return f"{get_column_letter(col)}{row}"
-
-
-def _parse_ref(ref: str) -> tuple[int, int]:
-    letters, row = coordinate_from_string(ref)
-    return int(row), column_index_from_string(letters)
+_ref = cell_ref
+_CELL_COL = re.compile(r"\$?([A-Za-z]{1,3})\$?\d+")
 
 
 @dataclass
@@ -103,6 +98,21 @@ class _Row:
     cells: dict[int, str] = field(default_factory=dict)  # col -> full <c> element
 
 
+@lru_cache(maxsize=8)
+def _patterns(prefix: str) -> dict[str, re.Pattern[str]]:
+    p = re.escape(prefix)
+    return {
+        "row": re.compile(rf"<{p}row\b([^>]*?)(?:/>|>(.*?)</{p}row>)", re.S),
+        "c": re.compile(rf"<{p}c\b([^>]*?)(?:/>|>(.*?)</{p}c>)", re.S),
+        "f_open": re.compile(rf"<{p}f\b([^>]*?)(?:/>|>)"),
+        "f_text": re.compile(rf"(<{p}f\b[^>]*?>)(.*?)(</{p}f>)", re.S),
+        "f_any": re.compile(rf"<{p}f[\s/>]"),
+        "f_elem": re.compile(rf"<{p}f\b[^>]*?(?:/>|>.*?</{p}f>)", re.S),
+        "ext": re.compile(rf"<{p}extLst\b.*?</{p}extLst>", re.S),
+        "r_attr": re.compile(r'\sr="([^"]*)"'),
+    }
+
+
 class SheetXml:
     """One worksheet's XML with an editable ``<sheetData>``."""
 
@@ -112,61 +122,69 @@ class SheetXml:
         if m is None:
             raise WorkbookError(part, "worksheet without sheetData")
         self.prefix = m.group(1) or ""
+        self._pat = _patterns(self.prefix)
         self._head, self._tail = xml[: m.start()], xml[m.end() :]
         self._open = f"<{self.prefix}sheetData>"
         self.rows: dict[int, _Row] = {}
         self._changed_rows: set[int] = set()
+        self._formulas: set[tuple[int, int]] = set()
         body = m.group(2) or ""
-        p = re.escape(self.prefix)
         next_row = 1
-        for rm in re.finditer(rf"<{p}row\b([^>]*?)(?:/>|>(.*?)</{p}row>)", body, re.S):
-            ra = _attrs(rm.group(1))
-            r = int(ra.get("r", next_row))
+        f_any, r_attr = self._pat["f_any"], self._pat["r_attr"]
+        for rm in self._pat["row"].finditer(body):
+            ra = r_attr.search(rm.group(1))
+            r = int(ra.group(1)) if ra else next_row
             next_row = r + 1
             row = _Row(rm.group(1))
             next_col = 1
-            for cm_ in re.finditer(
-                rf"<{p}c\b([^>]*?)(?:/>|>(.*?)</{p}c>)", rm.group(2) or "", re.S
-            ):
-                ca = _attrs(cm_.group(1))
-                if "r" in ca:
-                    _rr, c = _parse_ref(ca["r"])
-                else:
-                    c = next_col
+            for cm_ in self._pat["c"].finditer(rm.group(2) or ""):
+                ca = r_attr.search(cm_.group(1))
+                cm = _CELL_COL.match(ca.group(1)) if ca else None
+                c = col_index(cm.group(1)) if cm else next_col
                 next_col = c + 1
-                row.cells[c] = cm_.group(0)
+                cell = cm_.group(0)
+                row.cells[c] = cell
+                if f_any.search(cell):
+                    self._formulas.add((r, c))
             self.rows[r] = row
+
+    def copy(self) -> SheetXml:
+        """An independent copy (edits to one do not show in the other)."""
+        new = object.__new__(SheetXml)
+        new.__dict__.update(self.__dict__)
+        new.rows = {r: _Row(row.attrs, dict(row.cells)) for r, row in self.rows.items()}
+        new._changed_rows = set(self._changed_rows)
+        new._formulas = set(self._formulas)
+        return new
 
     # ---------------------------------------------------------------------- reading
     def formula_cells(self) -> list[FormulaCell]:
         out = []
-        p = re.escape(self.prefix)
-        for r, row in self.rows.items():
-            for c, cell in row.cells.items():
-                fm = re.search(rf"<{p}f\b([^>]*?)(?:/>|>)", cell)
-                if fm is None:
-                    continue
-                fa = _attrs(fm.group(1))
-                ca = _attrs(cell[: cell.index(">")])
-                out.append(FormulaCell(r, c, fa.get("t", ""), fa.get("ref", ""), ca.get("cm", "")))
+        f_open = self._pat["f_open"]
+        for r, c in sorted(self._formulas):
+            cell = self.rows[r].cells[c]
+            fm = f_open.search(cell)
+            if fm is None:
+                continue
+            fa = _attrs(fm.group(1))
+            ca = _attrs(cell[: cell.index(">")])
+            out.append(FormulaCell(r, c, fa.get("t", ""), fa.get("ref", ""), ca.get("cm", "")))
         return out
 
     def formula_texts(self) -> list[tuple[int, int, str]]:
         """(row, col, formula text without '=') of every formula cell that holds text."""
         out = []
-        p = re.escape(self.prefix)
-        for r, row in self.rows.items():
-            for c, cell in row.cells.items():
-                fm = re.search(rf"<{p}f\b[^>]*?>(.*?)</{p}f>", cell, re.S)
-                if fm and fm.group(1):
-                    out.append((r, c, unescape(fm.group(1), _UNESCAPE)))
+        f_text = self._pat["f_text"]
+        for r, c in sorted(self._formulas):
+            fm = f_text.search(self.rows[r].cells[c])
+            if fm and fm.group(2):
+                out.append((r, c, unescape(fm.group(2), _UNESCAPE)))
         return out
 
     def replace_formula_text(self, row: int, col: int, text: str) -> None:
         """Replace a formula cell's formula text (the cell keeps everything else)."""
-        p = re.escape(self.prefix)
         cell = self.rows[row].cells[col]
-        fm = re.search(rf"(<{p}f\b[^>]*?>)(.*?)(</{p}f>)", cell, re.S)
+        fm = self._pat["f_text"].search(cell)
         if fm is None:
             raise KeyError((row, col))
         new = fm.group(1) + escape(text) + fm.group(3)
@@ -181,8 +199,7 @@ class SheetXml:
         return max(rows), max(max(row.cells) for row in self.rows.values() if row.cells)
 
     def has_formula(self, row: int, col: int) -> bool:
-        cell = self.rows.get(row, _Row("")).cells.get(col)
-        return cell is not None and re.search(rf"<{re.escape(self.prefix)}f\b", cell) is not None
+        return (row, col) in self._formulas
 
     # ---------------------------------------------------------------------- writing
     def _value_xml(self, value: Any, formula: bool) -> tuple[str | None, str]:
@@ -209,15 +226,14 @@ class SheetXml:
     ) -> None:
         """Refresh a formula cell's cached value; for a spilling anchor set its ``ref``
         (and the dynamic-array cell-metadata index ``cm`` when given)."""
-        p = re.escape(self.prefix)
         cell = self.rows[row].cells[col]
         open_end = cell.index(">")
         self_closing = cell[open_end - 1] == "/"
         open_tag = cell[: open_end - 1 if self_closing else open_end]
         inner = "" if self_closing else cell[open_end + 1 : cell.rindex("<")]
-        fm = re.search(rf"<{p}f\b[^>]*?(?:/>|>.*?</{p}f>)", inner, re.S)
+        fm = self._pat["f_elem"].search(inner)
         f_xml = fm.group(0) if fm else ""
-        ext = re.search(rf"<{p}extLst\b.*?</{p}extLst>", inner, re.S)
+        ext = self._pat["ext"].search(inner)
         if spill_ref is not None and f_xml:
             ftag_end = f_xml.index(">")
             ftag = f_xml[:ftag_end]
@@ -254,6 +270,7 @@ class SheetXml:
             row_obj.cells[col] = f'<{pfx}c r="{_ref(row, col)}"{style}/>'
         else:
             row_obj.cells.pop(col, None)
+        self._formulas.discard((row, col))
         self._changed_rows.add(row)
 
     def render(self) -> str:
@@ -294,6 +311,22 @@ class Package:
         self.replaced: dict[str, bytes] = {}
         self.sheet_paths = self._sheet_paths()
         self._sheets: dict[str, SheetXml] = {}
+
+    def copy(self) -> Package:
+        """An independent copy sharing the verified member bytes (sheets already parsed are
+        copied, not parsed again)."""
+        new = object.__new__(Package)
+        new.path, new.infos, new.data = self.path, self.infos, self.data
+        new.sheet_paths = self.sheet_paths
+        new.replaced = dict(self.replaced)
+        new._sheets = {k: v.copy() for k, v in self._sheets.items()}
+        return new
+
+    def parse_all(self) -> Package:
+        """Parse every worksheet now (so that copies share the work)."""
+        for name in self.sheet_paths:
+            self.sheet(name)
+        return self
 
     def _xml(self, name: str) -> Any:
         try:
@@ -446,20 +479,21 @@ class Package:
         write_atomic(out_path, self._members())
 
     def to_bytes(self) -> bytes:
+        """The package as archive bytes for the formula engine (stored, not compressed:
+        nothing is written to disk and inflating is work saved)."""
         buf = io.BytesIO()
-        with zipfile.ZipFile(buf, "w", zipfile.ZIP_DEFLATED) as zf:
+        with zipfile.ZipFile(buf, "w", zipfile.ZIP_STORED) as zf:
             for info, raw in self._members():
-                zf.writestr(info, raw)
+                name = info.filename if isinstance(info, zipfile.ZipInfo) else info
+                zf.writestr(name, raw)
         return buf.getvalue()
 
 
 def cells_of(ref: str) -> set[tuple[int, int]]:
     """Every (row, col) of an A1 range reference."""
-    from openpyxl.utils.cell import range_boundaries
-
     if not ref:
         return set()
-    c1, r1, c2, r2 = range_boundaries(ref)
+    r1, c1, r2, c2 = parse_range(ref)
     return {(r, c) for r in range(int(r1), int(r2) + 1) for c in range(int(c1), int(c2) + 1)}
 
 

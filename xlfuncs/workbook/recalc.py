@@ -20,11 +20,9 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from openpyxl.utils import get_column_letter
-from openpyxl.utils.cell import column_index_from_string
-
 from ..errors import WorkbookError
 from ..tables import parse_cell
+from .cells import col_index, col_letter
 from .engine import MAX_COLS, MAX_ROWS, CellError, FormulaEngine, engine_formula, load_engine
 from .package import Package, cells_of, check_output_file
 from .safety import DEFAULT_LIMITS, Limits, read_archive
@@ -95,8 +93,8 @@ class PreparedBook:
         self.limits = limits
         archive = read_archive(self.path, limits)
         self._archive = archive
-        self._template = Package(archive)
-        for_engine = Package(archive)
+        self._template = Package(archive).parse_all()  # never edited: copies are
+        for_engine = self._template.copy()
         for_engine.drop_cached_spills()
         self._rewrite_for_engine(for_engine)
         self.engine: FormulaEngine = load_engine(for_engine.to_bytes(), self.path, limits)
@@ -138,13 +136,13 @@ class PreparedBook:
                 sh = (m.group(1) or "").replace("''", "'") or m.group(2) or sheet
                 last_row, last_col = extent(sh)
                 if m.group(3):
-                    c1, r1 = column_index_from_string(m.group(3).upper()), int(m.group(4))
-                    c2 = column_index_from_string((m.group(5) or m.group(3)).upper())
+                    c1, r1 = col_index(m.group(3).upper()), int(m.group(4))
+                    c2 = col_index((m.group(5) or m.group(3)).upper())
                     r2 = int(m.group(6) or m.group(4))
                     return (abs(r2 - r1) + 1) * (abs(c2 - c1) + 1)
                 if m.group(7):  # whole columns: the engine reads the used rows only
-                    c1 = column_index_from_string(m.group(7).upper())
-                    c2 = column_index_from_string(m.group(8).upper())
+                    c1 = col_index(m.group(7).upper())
+                    c2 = col_index(m.group(8).upper())
                     return last_row * (abs(c2 - c1) + 1)
                 r1, r2 = int(m.group(9)), int(m.group(10))  # whole rows
                 return last_col * (abs(r2 - r1) + 1)
@@ -193,7 +191,7 @@ class PreparedBook:
                     f"sheets: {', '.join(self._sheets)}",
                 )
             letters, row = m.group(3).upper(), int(m.group(4))
-            col = column_index_from_string(letters) if len(letters) <= 3 else MAX_COLS + 1
+            col = col_index(letters) if len(letters) <= 3 else MAX_COLS + 1
             if not (1 <= row <= MAX_ROWS and 1 <= col <= MAX_COLS):
                 raise WorkbookError(
                     self.path,
@@ -206,7 +204,7 @@ class PreparedBook:
         return nr.sheet, nr.first[0], nr.first[1], nr.last[0], nr.last[1]
 
     def _label(self, target: str, sheet: str, r: int, c: int) -> str:
-        addr = f"{sheet}!{get_column_letter(c)}{r}"
+        addr = f"{sheet}!{col_letter(c)}{r}"
         if _ADDRESS.match(target.strip()):
             for nr in self._names.values():
                 if nr.is_cell and nr.sheet == sheet and nr.first == (r, c):
@@ -221,8 +219,7 @@ class PreparedBook:
         if self._template.sheet(sheet).has_formula(r1, c1):
             raise WorkbookError(
                 self.path,
-                f"{target!r} ({sheet}!{get_column_letter(c1)}{r1}) holds a formula; "
-                "set input cells only",
+                f"{target!r} ({sheet}!{col_letter(c1)}{r1}) holds a formula; set input cells only",
             )
         return sheet, r1, c1
 
@@ -284,8 +281,8 @@ class PreparedBook:
         m = _REF.match(ref)
         if m and m.group(3):
             sheet = (m.group(1) or "").replace("''", "'") or m.group(2) or ""
-            c1, r1 = column_index_from_string(m.group(3).upper()), int(m.group(4))
-            c2 = column_index_from_string((m.group(5) or m.group(3)).upper())
+            c1, r1 = col_index(m.group(3).upper()), int(m.group(4))
+            c2 = col_index((m.group(5) or m.group(3)).upper())
             r2 = int(m.group(6) or m.group(4))
             return sheet, r1, c1, r2, c2
         return self.resolve(ref)
@@ -329,7 +326,7 @@ class PreparedBook:
         for sheet, r, c in self._formula_cells:
             bad = cell_error(self.engine.value(sheet, r, c))
             if bad is not None:
-                out.append(f"{sheet}!{get_column_letter(c)}{r}: {bad}")
+                out.append(f"{sheet}!{col_letter(c)}{r}: {bad}")
         return out
 
     def read(self, target: str) -> Any:
@@ -354,7 +351,7 @@ class PreparedBook:
         out = Path(out_path)
         if out.resolve() == Path(self.path).resolve():
             raise WorkbookError(self.path, "refusing to overwrite the input; choose another -o")
-        pkg = Package(self._archive)
+        pkg = self._template.copy()
         n_f = n_s = 0
         errors: list[str] = []
         for (sheet, r, c), value in (set_cells or {}).items():
@@ -366,7 +363,7 @@ class PreparedBook:
                 val = self.engine.value(sheet, fc.row, fc.col)
                 bad = cell_error(val)
                 if bad is not None:
-                    errors.append(f"{sheet}!{get_column_letter(fc.col)}{fc.row}: {bad}")
+                    errors.append(f"{sheet}!{col_letter(fc.col)}{fc.row}: {bad}")
                 legacy_array = fc.f_type == "array" and not fc.cm and ":" in fc.f_ref
                 ext = (
                     None
@@ -376,8 +373,8 @@ class PreparedBook:
                 old = cells_of(fc.f_ref) if fc.f_type == "array" else set()
                 if ext is not None:
                     r1, c1, r2, c2 = ext
-                    ref = f"{get_column_letter(c1)}{r1}" + (
-                        f":{get_column_letter(c2)}{r2}" if (r1, c1) != (r2, c2) else ""
+                    ref = f"{col_letter(c1)}{r1}" + (
+                        f":{col_letter(c2)}{r2}" if (r1, c1) != (r2, c2) else ""
                     )
                     if legacy_array:
                         sx.set_formula_value(fc.row, fc.col, val)
@@ -392,7 +389,7 @@ class PreparedBook:
                     stale = old - new
                 else:
                     if fc.f_type == "array" and fc.cm:
-                        ref = f"{get_column_letter(fc.col)}{fc.row}"
+                        ref = f"{col_letter(fc.col)}{fc.row}"
                         sx.set_formula_value(fc.row, fc.col, val, spill_ref=ref, cm=fc.cm)
                     else:
                         sx.set_formula_value(fc.row, fc.col, val)

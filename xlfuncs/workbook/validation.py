@@ -24,9 +24,8 @@ from dataclasses import dataclass
 from typing import Any
 from xml.sax.saxutils import unescape
 
-from openpyxl.utils.cell import range_boundaries
-
 from ..errors import InputError, WorkbookError
+from .cells import parse_range
 
 __all__ = ["InputValueError", "Rule", "coerce", "parse_rules", "rule_for", "violation"]
 
@@ -91,11 +90,9 @@ def _areas(sqref: str) -> tuple[tuple[int, int, int, int], ...]:
     out = []
     for part in sqref.split():
         try:
-            c1, r1, c2, r2 = range_boundaries(part.replace("$", ""))
-        except (ValueError, TypeError):
+            out.append(parse_range(part))
+        except ValueError:
             continue
-        if None not in (c1, r1, c2, r2):
-            out.append((int(r1), int(c1), int(r2), int(c2)))
     return tuple(out)
 
 
