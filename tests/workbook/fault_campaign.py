@@ -506,6 +506,43 @@ def main() -> int:
 
     c.trial("Ctrl-C during batch -j 2", ctrl_c)
 
+    def worker_killed() -> tuple[bool, str]:
+        cases = c.cases("c60.csv", 60)
+        out = tmp / "workerkill"
+        args = ["batch", tpl, str(cases), "-o", str(out), "-j", "2", "--no-progress"]
+        env = dict(os.environ, PYTHONWARNINGS="ignore")
+        p = subprocess.Popen(
+            [sys.executable, "-m", "xlfuncs", *args], cwd=tmp, env=env,
+            stdout=subprocess.PIPE, stderr=subprocess.PIPE,
+        )  # fmt: skip
+        journal = out / "summary.journal"
+        t0 = time.monotonic()
+        while time.monotonic() - t0 < 120 and p.poll() is None:
+            if journal.exists() and journal.read_bytes().count(b"\n") > 2:
+                break
+            time.sleep(0.02)
+        killed = 0
+        for child in Path(f"/proc/{p.pid}/task/{p.pid}/children").read_text().split():
+            cmd = Path(f"/proc/{child}/cmdline").read_bytes()
+            if b"spawn_main" in cmd and b"resource_tracker" not in cmd:
+                os.kill(int(child), signal.SIGKILL)
+                killed += 1
+        _o, err = p.communicate(timeout=300)
+        text = err.decode().strip()
+        again = run(args, tmp)
+        rows = read_summary(out) or []
+        ok = (
+            killed == 1
+            and "Traceback" not in text
+            and text.count("\n") == 0
+            and p.returncode in (0, 2)
+            and again.rc == 0
+            and len(rows) == 60 == len({r["case"] for r in rows})
+        )
+        return ok, f"exit {p.returncode}: {text[-120:]}; rerun exit {again.rc}, {len(rows)} rows"
+
+    c.trial("batch -j 2 whose worker process is killed", worker_killed)
+
     def panic_case() -> tuple[bool, str]:
         p = tmp / "panic.csv"
         p.write_text("case,Inputs!A99999999\nx,1\n")

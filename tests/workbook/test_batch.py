@@ -464,6 +464,29 @@ def test_ctrl_c_with_two_workers(tmp_path, clean_tpl):
     assert rep.skipped == len(rows_kept) and len(_summary(out)) == 400
 
 
+def test_a_dead_worker_is_one_line_and_loses_nothing(setup, monkeypatch):
+    from concurrent.futures import Future
+    from concurrent.futures.process import BrokenProcessPool
+
+    tpl, cases, out = setup
+    real = batch_mod.ProcessPoolExecutor
+
+    class DyingPool(real):  # the worker dies as the OOM killer would end it
+        def submit(self, *a, **k):
+            f: Future = Future()
+            f.set_exception(BrokenProcessPool("A process in the process pool was terminated"))
+            return f
+
+    monkeypatch.setattr(batch_mod, "ProcessPoolExecutor", DyingPool)
+    with pytest.raises(WorkbookError, match="a worker process died") as exc:
+        run_batch(tpl, cases, out, jobs=2, chunk=1, collect=["Vout_rms"], progress=False)
+    assert "\n" not in str(exc.value)
+    kept = len(_summary(out))  # what this process ran meanwhile is recorded
+    monkeypatch.setattr(batch_mod, "ProcessPoolExecutor", real)
+    rep = run_batch(tpl, cases, out, collect=["Vout_rms"], progress=False)
+    assert rep.skipped == kept and len(_summary(out)) == 6
+
+
 def test_dask_cluster(setup):
     distributed = pytest.importorskip("distributed")
     tpl, cases, out = setup

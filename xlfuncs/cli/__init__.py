@@ -11,6 +11,7 @@ from __future__ import annotations
 import argparse
 import contextlib
 import importlib
+import os
 import sys
 from collections.abc import Sequence
 from typing import NoReturn
@@ -80,6 +81,16 @@ def main(argv: Sequence[str] | None = None) -> int:
     except OSError as exc:
         where = f" {exc.filename!r}" if getattr(exc, "filename", None) else ""
         print(f"xlfuncs: error: cannot use{where}: {exc.strerror or exc}", file=sys.stderr)
+        return 2
+    except Exception as exc:  # a bug of ours: still one line (XLFUNCS_TRACEBACK=1 shows it)
+        if os.environ.get("XLFUNCS_TRACEBACK"):
+            raise
+        text = " ".join(str(exc).split())[:300]
+        print(
+            f"xlfuncs: internal error {type(exc).__name__}: {text} (a bug: please report it "
+            "with the command that caused it; XLFUNCS_TRACEBACK=1 shows where)",
+            file=sys.stderr,
+        )
         return 2
 
 

@@ -9,6 +9,7 @@ a batch nothing already recorded lost); 130 interrupted (Ctrl-C).
 from __future__ import annotations
 
 import argparse
+import sys
 from collections.abc import Sequence
 from typing import Any
 
@@ -72,7 +73,11 @@ def register(sub: Any) -> None:
         help="run on a Dask scheduler instead of local processes, e.g. --cluster "
         "tcp://10.0.0.5:8786",
     )
-    bt.add_argument("--no-progress", action="store_true", help="no progress bar on stderr")
+    bt.add_argument(
+        "--no-progress",
+        action="store_true",
+        help="no progress bar (it shows only when stderr is a terminal)",
+    )
     bt.set_defaults(run=_batch)
 
 
@@ -121,7 +126,7 @@ def _batch(args: argparse.Namespace) -> int:
         books=args.books,
         force=args.force,
         cluster=args.cluster,
-        progress=not args.no_progress,
+        progress=not args.no_progress and sys.stderr.isatty(),
     )
     print(
         f"{rep.done} cases run ({rep.failed} failed), {rep.skipped} already finished, "

@@ -49,6 +49,7 @@ import zlib
 from collections import deque
 from collections.abc import Callable, Iterable, Iterator, Sequence
 from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wait
+from concurrent.futures.process import BrokenProcessPool
 from contextlib import contextmanager, suppress
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -527,14 +528,18 @@ def _locked(out: Path) -> Iterator[None]:
             if sys.platform == "win32":  # pragma: no cover - exercised on Windows only
                 import msvcrt
 
+                fh.seek(0)  # every process locks the same byte, the first one
                 msvcrt.locking(fh.fileno(), msvcrt.LK_NBLCK, 1)
             else:
                 import fcntl
 
                 fcntl.flock(fh.fileno(), fcntl.LOCK_EX | fcntl.LOCK_NB)
         except OSError:
-            fh.seek(0)
-            holder = fh.read().strip()[:40]
+            try:
+                fh.seek(0)
+                holder = fh.read().strip()[:40]
+            except OSError:  # Windows: the locked byte cannot be read
+                holder = ""
             raise WorkbookError(
                 str(out),
                 "another batch is writing to this directory"
@@ -764,6 +769,12 @@ def _run_in_processes(
                 record(_run_chunk(template, pending.popleft(), collect, books_dir, None))
             elif futs:
                 wait(futs, return_when=FIRST_COMPLETED)
+    except BrokenProcessPool:
+        raise WorkbookError(
+            template,
+            "a worker process died (out of memory, or killed); the cases finished so far "
+            "are recorded: run the same command again to go on",
+        ) from None
     except KeyboardInterrupt:
         with _no_interrupts():
             for f in futs:
@@ -810,6 +821,15 @@ def _run_on_cluster(
         except KeyboardInterrupt:
             client.cancel(futs)
             raise
+        except XlfuncsError:
+            raise
+        except Exception as exc:  # a lost worker, a scheduler gone away
+            text = " ".join(str(exc).split())[:200]
+            raise WorkbookError(
+                address,
+                f"the cluster failed ({type(exc).__name__}: {text}); the cases finished so "
+                "far are recorded: run the same command again to go on",
+            ) from None
 
 
 def _progress(total: int, enabled: bool) -> Callable[..., None]:
