@@ -222,3 +222,13 @@ def test_csv_table_as_a_worksheet_delivers_it(tmp_path):
     p.write_text('a,b\n1,\n2.5e3,"x,y"\n')
     assert read_csv_table(p) == [["a", "b"], [1.0, None], [2500.0, "x,y"]]
     assert math.isclose(read_csv_table(p)[2][0], 2500.0)
+
+
+def test_plain_tables_keep_six_significant_digits():
+    # commands that parse their own output keep the %.6g layout unless they ask for units
+    from xlfuncs.cli import format_table
+
+    assert (
+        format_table([["a", "bb"], [1.23456789, 2e4]])
+        == "a        bb   \n-------  -----\n1.23457  20000"
+    )

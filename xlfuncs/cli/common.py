@@ -67,15 +67,27 @@ def eng(value: Any, unit: str = "", digits: int = 4, prefix: bool = True) -> str
 _NO_PREFIX = ("_deg", "_pct", "angle", "phase")
 
 
-def format_table(rows: Sequence[Sequence[Any]], units: Sequence[str] | None = None) -> str:
-    """Aligned plain-text table: numbers in engineering notation (4 significant digits),
-    degrees and percentages without a prefix; ``units`` (one per column) as a second
-    header line."""
+def format_table(
+    rows: Sequence[Sequence[Any]],
+    units: Sequence[str] | None = None,
+    *,
+    engineering: bool | None = None,
+) -> str:
+    """Aligned plain-text table.
+
+    With ``engineering`` (the default when ``units`` are given) numbers print through
+    :func:`eng` — SI prefixes, 4 significant digits, degrees and percentages without a
+    prefix — and ``units`` (one per column) form a second header line. Without it numbers
+    print with 6 significant digits (``%.6g``), as commands that parse their own output
+    expect."""
     header = [str(h) for h in rows[0]]
+    use_eng = units is not None if engineering is None else engineering
     no_prefix = [any(k in h.lower() for k in _NO_PREFIX) for h in header]
 
     def fmt(v: Any, col: int) -> str:
-        return eng(v, prefix=not no_prefix[col]) if isinstance(v, float) else str(v)
+        if not isinstance(v, float):
+            return str(v)
+        return eng(v, prefix=not no_prefix[col]) if use_eng else f"{v:.6g}"
 
     cells = [header]
     if units is not None:
@@ -85,11 +97,10 @@ def format_table(rows: Sequence[Sequence[Any]], units: Sequence[str] | None = No
     widths = [max(len(r[i]) for r in cells) for i in range(len(header))]
     lines = []
     for k, r in enumerate(cells):
-        lines.append(
-            "  ".join(
-                c.rjust(w) if k >= heads else c.ljust(w) for c, w in zip(r, widths, strict=True)
-            ).rstrip()
+        line = "  ".join(
+            c.rjust(w) if k >= heads else c.ljust(w) for c, w in zip(r, widths, strict=True)
         )
+        lines.append(line.rstrip() if use_eng else line)
         if k == heads - 1:
             lines.append("  ".join("-" * w for w in widths))
     return "\n".join(lines)
