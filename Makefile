@@ -4,7 +4,7 @@ VENV := .venv
 BIN := $(VENV)/bin
 STAMP := $(VENV)/.installed
 
-.PHONY: demo test bench lint docs templates clean
+.PHONY: demo test bench lint docs templates preview clean
 
 $(STAMP): pyproject.toml
 	$(PY) -m venv $(VENV)
@@ -22,6 +22,8 @@ bench: $(STAMP)
 	$(BIN)/python benchmarks/bench_solver.py
 	$(BIN)/python benchmarks/bench_studies.py
 	$(BIN)/python benchmarks/bench_batch.py
+	$(BIN)/python benchmarks/bench_frequency.py
+	$(BIN)/python benchmarks/bench_latency.py
 
 lint: $(STAMP)
 	$(BIN)/ruff check xlfuncs tests benchmarks examples
@@ -33,6 +35,9 @@ docs: $(STAMP)
 
 templates: $(STAMP)
 	$(BIN)/python -m xlfuncs.templates workbook_templates
+
+preview: $(STAMP)  # needs Debian's libreoffice-calc-nogui and poppler-utils (see tools/render_preview.py)
+	$(BIN)/python tools/render_preview.py out/preview workbook_templates/*.xlsx
 
 clean:
 	rm -rf $(VENV) .pytest_cache .mypy_cache .ruff_cache build *.egg-info

@@ -1,15 +1,21 @@
 """Render workbooks to PNG pages for a visual check (LibreOffice → PDF → PNG).
 
 LibreOffice does not know the CKT_ functions, so it is given a values-only copy (formulas
-removed, cached values kept) — what Excel shows before any recalculation. Needs Debian's
-libreoffice-calc-nogui and poppler-utils (not project dependencies).
+removed, cached values kept) — what Excel shows before any recalculation. Needs two Debian
+packages (not project dependencies):
 
-    python tools/render_preview.py OUT_DIR workbook_templates/*.xlsx
+    apt-get install -y libreoffice-calc-nogui poppler-utils
+
+    python tools/render_preview.py OUT_DIR workbook_templates/*.xlsx     (make preview)
+
+Each page is written as OUT_DIR/<book>-<page>-<sheet>.png (the sheet name is read from
+the page's footer), and OUT_DIR/<book>.pdf is kept.
 """
 
 from __future__ import annotations
 
 import re
+import shutil
 import subprocess
 import sys
 import tempfile
@@ -33,7 +39,27 @@ def values_only(src: Path, dst: Path) -> None:
     pkg.write(dst)
 
 
+def _sheet_of(pdf: Path, page: int, sheets: list[str]) -> str:
+    text = subprocess.run(
+        ["pdftotext", "-f", str(page), "-l", str(page), "-layout", str(pdf), "-"],
+        check=True,
+        capture_output=True,
+        text=True,
+    ).stdout
+    found = [s for s in sheets if re.search(rf"· {re.escape(s)}\b", text)]
+    return found[-1] if found else "page"
+
+
 def main(argv: list[str]) -> int:
+    missing = [t for t in ("soffice", "pdftoppm", "pdftotext") if shutil.which(t) is None]
+    if missing or len(argv) < 2:
+        print(
+            "usage: render_preview.py OUT_DIR BOOK.xlsx ...; needs LibreOffice and poppler: "
+            "apt-get install -y libreoffice-calc-nogui poppler-utils"
+            + (f" (missing: {', '.join(missing)})" if missing else ""),
+            file=sys.stderr,
+        )
+        return 2
     out = Path(argv[0])
     out.mkdir(parents=True, exist_ok=True)
     with tempfile.TemporaryDirectory() as tmp:
@@ -59,11 +85,17 @@ def main(argv: list[str]) -> int:
                 capture_output=True,
                 timeout=300,
             )
-            pdf = Path(tmp) / f"{src.stem}.pdf"
-            subprocess.run(
-                ["pdftoppm", "-r", "70", "-png", str(pdf), str(out / src.stem)], check=True
-            )
-            print(f"{src.name}: {len(list(out.glob(src.stem + '*.png')))} pages → {out}")
+            pdf = out / f"{src.stem}.pdf"
+            shutil.move(Path(tmp) / f"{src.stem}.pdf", pdf)
+            raw = Path(tmp) / "png"
+            raw.mkdir(exist_ok=True)
+            subprocess.run(["pdftoppm", "-r", "80", "-png", str(pdf), str(raw / "p")], check=True)
+            sheets = Package(src).sheet_paths.keys()
+            pages = sorted(raw.glob("p-*.png"))
+            for k, png in enumerate(pages, 1):
+                sheet = _sheet_of(pdf, k, list(sheets))
+                shutil.move(png, out / f"{src.stem}-{k:02d}-{sheet}.png")
+            print(f"{src.name}: {len(pages)} pages → {out}")
     return 0
 
 

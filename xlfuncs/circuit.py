@@ -15,7 +15,15 @@ from typing import Any
 import numpy as np
 
 from .errors import InputError, TableError
-from .tables import Options, PartRow, SourceRow, read_options, read_parts, read_sources
+from .tables import (
+    NoiseRow,
+    Options,
+    PartRow,
+    SourceRow,
+    read_options,
+    read_parts,
+    read_source_table,
+)
 
 __all__ = ["Circuit", "Source", "group_frequencies", "merge_frequencies"]
 
@@ -72,6 +80,9 @@ class Circuit:
     freqs_hz : numpy.ndarray
         Every frequency at which some source has a tone, ascending (DC = 0 first).
     options : Options
+    noise_sources : tuple of NoiseRow
+        Noise rows of the sources table (``density`` filled), node names as in
+        ``nodes``; the phasor solve ignores them.
     """
 
     parts: tuple[PartRow, ...]
@@ -80,6 +91,7 @@ class Circuit:
     ground: str
     freqs_hz: np.ndarray
     options: Options
+    noise_sources: tuple[NoiseRow, ...] = ()
 
     # ----------------------------------------------------------------------- builders
     @classmethod
@@ -90,8 +102,8 @@ class Circuit:
         """
         opts = options if isinstance(options, Options) else read_options(options)
         prows = read_parts(parts)
-        srows = read_sources(sources, opts) if sources is not None else ()
-        return cls.from_records(prows, srows, opts)
+        srows, nrows = read_source_table(sources, opts) if sources is not None else ((), ())
+        return cls.from_records(prows, srows, opts, noise=nrows)
 
     @classmethod
     def from_records(
@@ -99,6 +111,7 @@ class Circuit:
         parts: Sequence[PartRow],
         sources: Sequence[SourceRow] = (),
         options: Options | None = None,
+        noise: Sequence[NoiseRow] = (),
     ) -> Circuit:
         opts = options or Options()
         gkey = opts.ground.lower()
@@ -211,6 +224,7 @@ class Circuit:
                         f"these inductors are already coupled in row {coupled[key2]}",
                     )
                 coupled[key2] = p.row
+        noise_rows = _check_noise(noise, node, node_set, part_by_name, src_by_name)
         freqs = merge_frequencies([f for s in srcs for f, _ in s.tones])
         freqs.setflags(write=False)
         return cls(
@@ -220,6 +234,7 @@ class Circuit:
             ground=opts.ground,
             freqs_hz=freqs,
             options=opts,
+            noise_sources=noise_rows,
         )
 
     # ------------------------------------------------------------------------ lookups
@@ -250,6 +265,61 @@ class Circuit:
 
     def __hash__(self) -> int:  # numpy arrays are unhashable; identity is enough
         return id(self)
+
+
+def _check_noise(
+    noise: Sequence[NoiseRow],
+    node: Any,
+    node_set: set[str],
+    part_by_name: dict[str, PartRow],
+    src_by_name: dict[str, Source],
+) -> tuple[NoiseRow, ...]:
+    """Noise rows with their node names resolved; names share the namespace of parts and
+    sources, and both nodes must be nodes of the network (noise rows add no node)."""
+    out: list[NoiseRow] = []
+    seen: dict[str, int] = {}
+    for nz in noise:
+        key = nz.name.lower()
+        if key in part_by_name:
+            raise InputError(
+                "sources",
+                nz.row,
+                "name",
+                nz.name,
+                f"name already used by a part (parts row {part_by_name[key].row})",
+            )
+        if key in src_by_name:
+            raise InputError(
+                "sources",
+                nz.row,
+                "name",
+                nz.name,
+                f"name already used by a source (sources row {src_by_name[key].row})",
+            )
+        if key in seen:
+            raise InputError(
+                "sources",
+                nz.row,
+                "name",
+                nz.name,
+                f"noise source {nz.name!r} already has a row ({seen[key]})",
+            )
+        seen[key] = nz.row
+        ends = []
+        for col, n in (("from", nz.from_node), ("to", nz.to_node)):
+            resolved = node(n)
+            if resolved not in node_set:
+                raise InputError(
+                    "sources",
+                    nz.row,
+                    col,
+                    n,
+                    "a noise source connects to nodes of the network; no part or tone "
+                    "source touches this node (check the spelling)",
+                )
+            ends.append(resolved)
+        out.append(replace(nz, from_node=ends[0], to_node=ends[1]))
+    return tuple(out)
 
 
 def _replace_nodes(p: PartRow, node: Any) -> PartRow:

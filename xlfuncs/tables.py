@@ -20,12 +20,14 @@ from .units import parse_number
 
 __all__ = [
     "PART_KINDS",
+    "NoiseRow",
     "Options",
     "PartRow",
     "SourceRow",
     "parse_cell",
     "read_options",
     "read_parts",
+    "read_source_table",
     "read_sources",
 ]
 
@@ -92,7 +94,12 @@ _SOURCE_COLUMNS: dict[str, tuple[str, ...]] = {
     "rms": ("rms",),
     "phase_deg": ("phase_deg", "phase"),
     "shape": ("shape",),
+    "density": ("density", "noise_density"),
+    "corner_hz": ("corner_hz", "corner_frequency_hz"),
 }
+# columns of a tone that a noise row (density filled) leaves empty
+_TONE_ONLY = ("freq_hz", "omega_rad_s", "harmonic", "peak", "rms", "phase_deg", "shape")
+_DENSITY_UNIT = {"V": "V/√Hz", "I": "A/√Hz"}
 
 
 # ---------------------------------------------------------------------------------------
@@ -131,6 +138,26 @@ class SourceRow:
     to_node: str
     freq_hz: float
     phasor: complex
+
+
+@dataclass(frozen=True)
+class NoiseRow:
+    """One noise source of the sources table (a row with ``density`` filled).
+
+    ``density`` is the amplitude spectral density at high frequency (V/√Hz for kind V,
+    A/√Hz for kind I); with a 1/f corner the density at f is
+    ``density·√(1 + corner_hz/f)`` (``corner_hz == 0``: white noise). A voltage noise
+    source's value is its own V(from) − V(to); a current noise source's current flows from
+    ``from`` to ``to`` through it. Noise rows are not tones: the phasor solve ignores them.
+    """
+
+    row: int
+    name: str
+    kind: str  # "V" or "I"
+    from_node: str
+    to_node: str
+    density: float
+    corner_hz: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -404,20 +431,35 @@ def _kind_help() -> str:
 # ---------------------------------------------------------------------------------------
 # sources
 def read_sources(data: Any, options: Options | None = None) -> tuple[SourceRow, ...]:
-    """Parse the sources table: one row per tone (see README "Sources table")."""
+    """Parse the sources table: one row per tone (see README "Sources table"). Noise rows
+    are checked and left out; :func:`read_source_table` returns them too."""
+    return read_source_table(data, options)[0]
+
+
+def read_source_table(
+    data: Any, options: Options | None = None
+) -> tuple[tuple[SourceRow, ...], tuple[NoiseRow, ...]]:
+    """Parse the sources table into its tones and its noise rows.
+
+    A row with ``density`` filled is a noise source (:class:`NoiseRow`): its frequency,
+    amplitude, phase and shape cells stay empty. Every other row is one tone.
+    """
     opts = options or Options()
     t = _Table(data, "sources", _SOURCE_COLUMNS)
     t.require("name", "kind", "from", "to")
     freq_cols = [c for c in ("freq_hz", "omega_rad_s", "harmonic") if c in t.col]
     amp_cols = [c for c in ("peak", "rms") if c in t.col]
-    if not freq_cols:
+    has_tones = any(t.get(r, "density") is None for _n, r in t.rows)
+    if has_tones and not freq_cols:
         raise TableError(
             "sources", "missing a frequency column (freq_hz, omega_rad_s or harmonic)"
         )
-    if not amp_cols:
+    if has_tones and not amp_cols:
         raise TableError("sources", "missing an amplitude column (peak or rms)")
     first: dict[str, SourceRow] = {}
     out: list[SourceRow] = []
+    noise: list[NoiseRow] = []
+    noise_names: dict[str, int] = {}
     for rownum, r in t.rows:
         name = _name(t, rownum, r, "name", "a source name")
         kind_cell = t.get(r, "kind")
@@ -439,6 +481,37 @@ def read_sources(data: Any, options: Options | None = None) -> tuple[SourceRow, 
                 "to",
                 b,
                 f"both ends on node {a!r}; expected two different nodes",
+            )
+        density_cell = t.get(r, "density")
+        if density_cell is not None:
+            key = name.lower()
+            if key in noise_names:
+                raise InputError(
+                    "sources",
+                    rownum,
+                    "name",
+                    name,
+                    f"noise source {name!r} already has a row ({noise_names[key]}); "
+                    "give one row per noise source",
+                )
+            if key in first:
+                raise InputError(
+                    "sources",
+                    rownum,
+                    "name",
+                    name,
+                    f"name already used by a tone (sources row {first[key].row})",
+                )
+            noise_names[key] = rownum
+            noise.append(_noise_row(t, rownum, r, name, str(kind), a, b, density_cell))
+            continue
+        if t.get(r, "corner_hz") is not None:
+            raise InputError(
+                "sources",
+                rownum,
+                "corner_hz",
+                t.get(r, "corner_hz"),
+                "corner_hz belongs to a noise row; fill density too, or leave it empty",
             )
         # frequency: exactly one column filled
         filled = [c for c in freq_cols if t.get(r, c) is not None]
@@ -527,6 +600,14 @@ def read_sources(data: Any, options: Options | None = None) -> tuple[SourceRow, 
             phasor = complex(peak * math.cos(ang), peak * math.sin(ang))
         rec = SourceRow(rownum, name, kind, a, b, freq, phasor)
         prev = first.get(name.lower())
+        if name.lower() in noise_names:
+            raise InputError(
+                "sources",
+                rownum,
+                "name",
+                name,
+                f"name already used by a noise source (sources row {noise_names[name.lower()]})",
+            )
         if prev is None:
             first[name.lower()] = rec
         else:
@@ -549,7 +630,42 @@ def read_sources(data: Any, options: Options | None = None) -> tuple[SourceRow, 
                     f"({prev.from_node}→{prev.to_node} in row {prev.row})",
                 )
         out.append(rec)
-    return tuple(out)
+    return tuple(out), tuple(noise)
+
+
+def _noise_row(
+    t: _Table, rownum: int, r: list[Cell], name: str, kind: str, a: str, b: str, cell: Cell
+) -> NoiseRow:
+    for col in _TONE_ONLY:
+        if t.get(r, col) is not None:
+            raise InputError(
+                "sources",
+                rownum,
+                col,
+                t.get(r, col),
+                "a noise row (density filled) is not a tone: leave " + col + " empty",
+            )
+    unit = _DENSITY_UNIT[kind]
+    density = parse_number(cell, unit=unit, table="sources", row=rownum, column="density")
+    if not density > 0:
+        raise InputError(
+            "sources", rownum, "density", cell, f"expected a noise density > 0 ({unit})"
+        )
+    corner_cell = t.get(r, "corner_hz")
+    corner = 0.0
+    if corner_cell is not None:
+        corner = parse_number(
+            corner_cell, unit="Hz", table="sources", row=rownum, column="corner_hz"
+        )
+        if corner < 0:
+            raise InputError(
+                "sources",
+                rownum,
+                "corner_hz",
+                corner_cell,
+                "expected a 1/f corner frequency ≥ 0 Hz (0 or empty: white noise)",
+            )
+    return NoiseRow(rownum, name, kind, a, b, density, corner)
 
 
 # ---------------------------------------------------------------------------------------

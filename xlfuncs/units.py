@@ -49,6 +49,9 @@ _UNIT_SPELLINGS: dict[str, tuple[str, ...]] = {
     "VA": ("VA",),
     "var": ("var", "VAr"),
     "°": ("°", "deg"),
+    # amplitude spectral densities of noise sources
+    "V/√Hz": ("V/√Hz", "V/rtHz", "V/sqrt(Hz)", "V/sqrtHz"),
+    "A/√Hz": ("A/√Hz", "A/rtHz", "A/sqrt(Hz)", "A/sqrtHz"),
 }
 UNIT_NAMES: dict[str, str] = {
     "Ω": "ohms",
@@ -63,6 +66,8 @@ UNIT_NAMES: dict[str, str] = {
     "VA": "volt-amperes",
     "var": "vars",
     "°": "degrees",
+    "V/√Hz": "volts per root hertz",
+    "A/√Hz": "amperes per root hertz",
 }
 
 _NUMBER = re.compile(r"^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(.*?)\s*$")

@@ -6,6 +6,10 @@ worksheet values in → the core → a scalar or a rectangular 2-D list out, whi
 spills natively; errors become one short line of text in the cell, never a traceback);
 this module only decorates them for xlwings, with each argument's dialog text and
 conversion options. It is the only module that imports xlwings.
+
+Every argument is read with ``err_to_str=True``: an error cell (``#N/A``, ``#VALUE!``…)
+then reaches the function as its text and is refused naming table, row and column,
+instead of arriving as an empty cell (xlwings' default) that would silently drop a row.
 """
 
 from __future__ import annotations
@@ -17,6 +21,14 @@ from typing import Any
 import xlwings as xw
 
 from .functions import ARGS, CATEGORY, FUNCTIONS, FunctionDoc, cache_clear, cache_info  # noqa: F401
+from .functions.registry import OWN_OPTIONS
+
+
+def _xlwings_options(opts: dict[str, Any]) -> dict[str, Any]:
+    """xlwings' conversion options of one argument: ours removed, errors read as text."""
+    out = {k: v for k, v in opts.items() if k not in OWN_OPTIONS}
+    out["err_to_str"] = True
+    return out
 
 
 def _for_xlwings(fd: FunctionDoc) -> Callable[..., Any]:
@@ -30,7 +42,7 @@ def _for_xlwings(fd: FunctionDoc) -> Callable[..., Any]:
     wrapped: Callable[..., Any] = udf
     for name, _doc, _opt in fd.args:
         doc, opts = ARGS[name]
-        wrapped = xw.arg(name, doc=doc, **opts)(wrapped)
+        wrapped = xw.arg(name, doc=doc, **_xlwings_options(opts))(wrapped)
     return xw.func(category=CATEGORY, call_in_wizard=fd.call_in_wizard)(wrapped)
 
 

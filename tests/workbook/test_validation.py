@@ -49,6 +49,7 @@ def _rms(r1: float, vdc: float) -> float:
         ),
         ({"Vdc": 150.0}, "Vdc (Net!F11) expects a number between -100 and 100, got 150"),
         ({"Vdc": True}, "Vdc (Net!F11) expects a number between -100 and 100, got True"),
+        ({"Vdc": "1k"}, "Vdc (Net!F11) expects a number between -100 and 100, got '1k' (= 1000)"),
         ({"mode": "medium"}, "mode (Net!H2) expects one of 'fast', 'slow', got 'medium'"),
     ],
 )

@@ -23,7 +23,7 @@ from .common import XlfuncsFileError, eng, format_table, read_csv_table
 __all__ = ["XlfuncsFileError", "eng", "format_table", "main", "read_csv_table"]
 
 # modules of this package that add commands, in the order `--help` lists them
-COMMAND_MODULES = ("network", "workbooks")
+COMMAND_MODULES = ("network", "frequency", "workbooks", "duty", "power")
 
 
 class _Parser(argparse.ArgumentParser):

@@ -6,7 +6,7 @@ Importing this package imports each domain module, which registers its functions
 function reference (``xlfuncs.docgen``).
 """
 
-from . import core, frequency, studies  # noqa: F401  (each module registers its functions)
+from . import core, duty, frequency, power, studies  # noqa: F401  (each module registers its functions)
 from .cache import cache_clear, cache_info
 from .registry import ARGS, CATEGORY, ERROR_PREFIX, FUNCTIONS, FunctionDoc
 

@@ -6,10 +6,29 @@ from __future__ import annotations
 from typing import Any
 
 from ..errors import InputError
-from ..solution import Solution
-from .arguments import blank, freeze, name_arg, num_arg, points_arg, quantity_arg
-from .cache import solution
+from .arguments import (
+    argument_named,
+    blank,
+    choice_arg,
+    name_arg,
+    num_arg,
+    points_arg,
+    quantity_arg,
+    whole_arg,
+)
+from .cache import circuit, solution
 from .registry import register_args, sheet_function
+
+# Sane ranges of the scalar arguments (outside them a value is a unit slip, and ratios
+# of them would overflow): the highest AC transmission voltages in service are near
+# 1100 kV; fault currents of the largest systems are a few hundred kA; the largest
+# capacitor banks a few hundred Mvar (common practice). Floors: 1 V, 1 mA, 1 var.
+# Fundamentals: 16.7, 25, 50, 60 and 400 Hz are in use.
+_KV_MAX = 1200.0
+_V_MIN, _V_MAX = 1.0, 1.2e6
+_A_MIN, _A_MAX = 1e-3, 1e7
+_KVAR_MIN, _KVAR_MAX = 1e-3, 1e6
+_F1_MIN, _F1_MAX = 1.0, 1000.0
 
 register_args(
     {
@@ -26,7 +45,7 @@ register_args(
             "Optional IEEE 519 edition: 2014 (default) or 2022 (even-harmonic rule of 2022).",
             {},
         ),
-        "order": ("Harmonic order h (whole number 2 to 50).", {}),
+        "order": ("Harmonic order h (whole number 2 to 1000; above 50 not limited).", {}),
         "isc_il": (
             "Ratio Isc/IL of short-circuit current to maximum demand load current at the PCC.",
             {},
@@ -54,9 +73,9 @@ register_args(
         "max_order": ("Optional highest harmonic order (default 25).", {}),
         "phase_deg": ("Optional phase of every harmonic tone, degrees (default 0).", {}),
         "spectrum": (
-            "Optional two-column range order | percent of I1 (a measured or maker's spectrum); "
-            "replaces the ideal I1/h law.",
-            {"ndim": 2},
+            "Two-column range order | pct (percent of I1, order 1 = 100) with its header row: "
+            "a measured or maker's spectrum. Optional in CKT_DRIVE (replaces the ideal I1/h law).",
+            {"ndim": 2, "err_to_str": True},
         ),
         "metric": (
             "Optional result: rms (default), peak, peak_sum, thd, dc, power, var_sum or "
@@ -68,8 +87,8 @@ register_args(
 )
 
 
-def _fundamental(sol_or_circuit: Any) -> float:
-    c = sol_or_circuit.circuit if isinstance(sol_or_circuit, Solution) else sol_or_circuit
+def _fundamental(sol: Any) -> float:
+    c = sol.circuit
     f1 = c.options.fundamental_hz
     if f1 is None:
         nz = c.freqs_hz[c.freqs_hz > 0]
@@ -90,6 +109,14 @@ def _check_rows(check: Any) -> list[list[Any]]:
     return out
 
 
+def _bus_kv(value: Any, default: float | None = None) -> float:
+    return num_arg(value, "bus_kv", default, above=0.0, hi=_KV_MAX, unit="kV")
+
+
+def _edition(value: Any) -> int:
+    return choice_arg(value, "edition", (2014, 2022), 2014)
+
+
 @sheet_function(
     "Bus voltage harmonics and THD against IEEE 519-2014 Table 1 limits (spills pass/fail).",
     "Header item | percent | limit_percent | result: one row per harmonic 2-50 present (% of "
@@ -99,11 +126,12 @@ def _check_rows(check: Any) -> list[list[Any]]:
 def CKT_V519(parts, sources, node, bus_kv, options=None):
     from ..studies.limits import check_voltage
 
+    kv = _bus_kv(bus_kv)
     sol = solution(parts, sources, options)
-    sp = sol.voltage(name_arg(node, "node"))
-    return _check_rows(
-        check_voltage(sp.freqs_hz, sp.rms, _fundamental(sol), num_arg(bus_kv, "bus_kv"))
-    )
+    name = name_arg(node, "node")
+    with argument_named("node", name):
+        sp = sol.voltage(name)
+    return _check_rows(check_voltage(sp.freqs_hz, sp.rms, _fundamental(sol), kv))
 
 
 @sheet_function(
@@ -114,21 +142,19 @@ def CKT_V519(parts, sources, node, bus_kv, options=None):
 def CKT_I519(parts, sources, part, i_sc, i_l, bus_kv, edition=None, options=None):
     from ..studies.limits import check_current
 
-    sol = solution(parts, sources, options)
-    sp = sol.current(name_arg(part, "part"))
-    il = num_arg(i_l, "i_l")
-    ed = int(num_arg(edition, "edition", 2014))
-    return _check_rows(
-        check_current(
-            sp.freqs_hz,
-            sp.rms,
-            _fundamental(sol),
-            il,
-            num_arg(i_sc, "i_sc") / il,
-            num_arg(bus_kv, "bus_kv"),
-            ed,
+    il = num_arg(i_l, "i_l", lo=_A_MIN, hi=_A_MAX, unit="A")
+    isc = num_arg(i_sc, "i_sc", lo=_A_MIN, hi=_A_MAX, unit="A")
+    if isc < il:
+        raise InputError(
+            "argument", None, "i_sc", i_sc, f"expected a short-circuit current ≥ i_l ({il:g} A)"
         )
-    )
+    kv = _bus_kv(bus_kv)
+    ed = _edition(edition)
+    sol = solution(parts, sources, options)
+    name = name_arg(part, "part")
+    with argument_named("part", name):
+        sp = sol.current(name)
+    return _check_rows(check_current(sp.freqs_hz, sp.rms, _fundamental(sol), il, isc / il, kv, ed))
 
 
 @sheet_function(
@@ -138,27 +164,22 @@ def CKT_I519(parts, sources, part, i_sc, i_l, bus_kv, edition=None, options=None
 def CKT_V519_LIMITS(bus_kv):
     from ..studies.limits import voltage_limits_pct
 
-    ind, thd = voltage_limits_pct(num_arg(bus_kv, "bus_kv"))
+    ind, thd = voltage_limits_pct(_bus_kv(bus_kv))
     return [["individual_pct", "thd_pct"], [ind, thd]]
 
 
 @sheet_function(
-    "IEEE 519 current limit for one harmonic order, in % of I_L (Tables 2-4).",
+    "IEEE 519 current limit for one harmonic order, in % of I_L (Tables 2-4). Without "
+    "bus_kv: Table 2 (buses from 120 V to 69 kV).",
     "One number, % of I_L; even orders per the chosen edition; orders above 50 are not "
     "limited (empty).",
 )
 def CKT_I519_LIMIT(order, isc_il, bus_kv=None, edition=None):
     from ..studies.limits import current_limit_pct
 
-    h = num_arg(order, "order")
-    if not h.is_integer():
-        raise InputError("argument", None, "order", order, "expected a whole harmonic order")
-    lim = current_limit_pct(
-        int(h),
-        num_arg(isc_il, "isc_il"),
-        num_arg(bus_kv, "bus_kv", 13.8),
-        int(num_arg(edition, "edition", 2014)),
-    )
+    h = whole_arg(order, "order", lo=2, hi=1000)
+    ratio = num_arg(isc_il, "isc_il", lo=1.0, hi=1e9)
+    lim = current_limit_pct(h, ratio, _bus_kv(bus_kv, 13.8), _edition(edition))
     return blank(lim)
 
 
@@ -171,14 +192,14 @@ def CKT_I519_LIMIT(order, isc_il, bus_kv=None, edition=None):
 def CKT_CAPDUTY(parts, sources, part, rated_kvar, rated_v, options=None):
     from ..studies.capacitor import capacitor_duty
 
+    q = num_arg(rated_kvar, "rated_kvar", lo=_KVAR_MIN, hi=_KVAR_MAX, unit="kvar")
+    u = num_arg(rated_v, "rated_v", lo=_V_MIN, hi=_V_MAX, unit="V")
     sol = solution(parts, sources, options)
     name = name_arg(part, "part")
-    v = sol.voltage(name)
-    i = sol.current(name)
-    duty = capacitor_duty(
-        v.freqs_hz, v.rms, i.rms, num_arg(rated_kvar, "rated_kvar"), num_arg(rated_v, "rated_v")
-    )
-    return duty.table()
+    with argument_named("part", name):
+        v = sol.voltage(name)
+        i = sol.current(name)
+    return capacitor_duty(v.freqs_hz, v.rms, i.rms, q, u).table()
 
 
 @sheet_function(
@@ -189,14 +210,45 @@ def CKT_CAPDUTY(parts, sources, part, rated_kvar, rated_v, options=None):
 def CKT_DETUNE(kvar, volts, fundamental_hz, p_or_order):
     from ..studies.detuning import detuning
 
-    x = num_arg(p_or_order, "p_or_order")
-    kw = {"p": x} if x < 1 else {"order": x}
-    return detuning(
-        num_arg(kvar, "kvar"),
-        num_arg(volts, "volts"),
-        num_arg(fundamental_hz, "fundamental_hz"),
-        **kw,
-    ).rows()
+    q = num_arg(kvar, "kvar", lo=_KVAR_MIN, hi=_KVAR_MAX, unit="kvar")
+    u = num_arg(volts, "volts", lo=_V_MIN, hi=_V_MAX, unit="V")
+    f1 = num_arg(fundamental_hz, "fundamental_hz", lo=_F1_MIN, hi=_F1_MAX, unit="Hz")
+    x = num_arg(p_or_order, "p_or_order", above=0.0)
+    if x < 1:
+        if x < 1e-4:
+            raise InputError(
+                "argument", None, "p_or_order", p_or_order, "expected p from 0.0001 (order 100)"
+            )
+        kw = {"p": x}
+    else:
+        if not 1 < x <= 100:
+            raise InputError(
+                "argument", None, "p_or_order", p_or_order, "expected a tuned order > 1 and ≤ 100"
+            )
+        kw = {"order": x}
+    return detuning(q, u, f1, **kw).rows()
+
+
+def _spectrum(spectrum: Any) -> list[tuple[float, float]] | None:
+    """The harmonics of a measured spectrum (order | pct with its header row, order 1 =
+    100, read as every function reads a ``spectrum``), above the fundamental."""
+    if spectrum is None:
+        return None
+    from ..studies.transformer import read_harmonic_spectrum
+
+    orders, pct = read_harmonic_spectrum(spectrum, "spectrum", 1.0)
+    out = []
+    for h, p in zip(orders.tolist(), pct.tolist(), strict=True):
+        if h <= 1.0 + 1e-9:
+            continue  # the fundamental is i1_rms itself
+        if h > 200:
+            raise InputError("spectrum", None, "order", h, "expected orders up to 200")
+        if p > 1000:
+            raise InputError("spectrum", None, "pct", p, "expected at most 1000 % of I1")
+        out.append((h, p))
+    if not out:
+        raise InputError("spectrum", None, "order", expected="no harmonic above order 1")
+    return out
 
 
 @sheet_function(
@@ -217,28 +269,15 @@ def CKT_DRIVE(
 ):
     from ..studies.drives import drive_sources
 
-    spec = None
-    if spectrum is not None:
-        spec = []
-        for k, row in enumerate(spectrum):
-            if all(c is None or c == "" for c in row):
-                continue
-            if len(row) < 2 or not all(isinstance(c, (int, float)) for c in row[:2]):
-                if k == 0:
-                    continue  # a header row
-                raise InputError(
-                    "spectrum", k + 1, "percent", row, "expected order | percent numbers"
-                )
-            spec.append((float(row[0]), float(row[1])))
     return drive_sources(
         name_arg(source_name, "source_name"),
         name_arg(node_from, "node_from"),
         name_arg(node_to, "node_to"),
-        num_arg(i1_rms, "i1_rms"),
-        int(num_arg(pulses, "pulses", 6)),
-        int(num_arg(max_order, "max_order", 25)),
-        num_arg(phase_deg, "phase_deg", 0.0),
-        spec,
+        num_arg(i1_rms, "i1_rms", above=0.0, hi=_A_MAX, unit="A"),
+        choice_arg(pulses, "pulses", (6, 12, 18, 24), 6),
+        whole_arg(max_order, "max_order", 25, lo=2, hi=200),
+        num_arg(phase_deg, "phase_deg", 0.0, lo=-360.0, hi=360.0, unit="degrees"),
+        _spectrum(spectrum),
     )
 
 
@@ -247,19 +286,26 @@ def CKT_DRIVE(
     "Header statistic | value: nominal, mean, std, min, p1, p5, p50, p95, p99, max, corner "
     "min/max (all 2^k corners for k <= 12 toleranced parts, else linearised) and the sample "
     "count. Reproducible (fixed seed).",
+    call_in_wizard=False,
 )
 def CKT_TOLERANCE(parts, sources, target, metric=None, samples=None, quantity=None, options=None):
     from ..studies.tolerance import tolerance_study
 
-    m = "rms" if metric is None or metric == "" else str(metric).strip().lower()
-    n = points_arg(samples) or 10_000
+    if metric is None or (isinstance(metric, str) and not metric.strip()):
+        m = "rms"
+    elif isinstance(metric, str):
+        m = metric.strip().lower()
+    else:
+        raise InputError("argument", None, "metric", metric, "expected a metric name")
+    n = points_arg(samples, "samples", lo=2, hi=1_000_000) or 10_000
     res = tolerance_study(
-        freeze(parts),
-        freeze(sources),
-        freeze(options),
+        circuit(parts, sources, options),
         target=name_arg(target, "target"),
         quantity=quantity_arg(quantity),
         metric=m,
         samples=n,
     )
-    return res.table()
+    table = res.table()
+    if res.corner_method == "none":  # no toleranced part: there are no corners
+        table = [[k, "" if str(k).startswith("corner") else v] for k, v in table]
+    return table

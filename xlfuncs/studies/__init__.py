@@ -1,9 +1,34 @@
 """Studies built on the core solver: resonances, IEEE 519 limits, IEEE 18 capacitor duty,
-detuning reactors, converter spectra and tolerance spreads."""
+detuning reactors, converter spectra, tolerance spreads, IEEE 1459 power quantities,
+transformer derating (IEEE C57.110), harmonic filters, cable losses at harmonics,
+transfer functions, natural frequencies, input-filter stability and noise."""
 
+from .cables import (
+    ARRANGEMENTS,
+    CableLoss,
+    CableResistance,
+    cable_ac_resistance,
+    cable_harmonic_loss,
+    skin_effect_factor,
+)
 from .capacitor import IEEE18_LIMITS, CapacitorDuty, capacitor_duty
 from .detuning import Detuning, detuning
 from .drives import characteristic_orders, drive_sources
+from .filters import (
+    CapacitorStep,
+    FilterDesign,
+    FilterRating,
+    SupplyResonance,
+    TuningDrift,
+    capacitor_bank,
+    capacitor_steps,
+    filter_rating,
+    filter_resonance,
+    highpass_filter,
+    read_order_amps,
+    tuned_filter,
+    tuning_drift,
+)
 from .limits import (
     CurrentCheck,
     VoltageCheck,
@@ -13,28 +38,113 @@ from .limits import (
     tdd_limit_pct,
     voltage_limits_pct,
 )
-from .resonance import Resonance, find_resonances, resonance_order_rule
+from .noise import (
+    BOLTZMANN,
+    NoiseContribution,
+    NoiseResult,
+    NoiseSpectrum,
+    noise_density,
+    noise_rms,
+)
+from .poles import NaturalFrequency, network_poles, transfer_poles_zeros, transfer_zeros
+from .powers import POWER_ROWS, WIRINGS, PowerQuantities, port_powers, power_quantities
+from .resonance import Resonance, Resonances, find_resonances, resonance_order_rule
+from .stability import (
+    DampingDesign,
+    FilterMargin,
+    damping_for_margin,
+    input_filter_margin,
+    negative_input_resistance,
+    size_parallel_damping,
+)
 from .tolerance import METRICS, ToleranceResult, tolerance_study
+from .transfer import (
+    FrequencyResponse,
+    TwoPortImpedance,
+    bode,
+    frequency_response,
+    port_impedance,
+    two_port_impedances,
+)
+from .transformer import (
+    TransformerDerating,
+    harmonic_loss_factor,
+    k_factor,
+    read_harmonic_spectrum,
+    transformer_derating,
+)
 
 __all__ = [
+    "ARRANGEMENTS",
+    "BOLTZMANN",
     "IEEE18_LIMITS",
     "METRICS",
+    "POWER_ROWS",
+    "WIRINGS",
+    "CableLoss",
+    "CableResistance",
     "CapacitorDuty",
+    "CapacitorStep",
     "CurrentCheck",
+    "DampingDesign",
     "Detuning",
+    "FilterDesign",
+    "FilterMargin",
+    "FilterRating",
+    "FrequencyResponse",
+    "NaturalFrequency",
+    "NoiseContribution",
+    "NoiseResult",
+    "NoiseSpectrum",
+    "PowerQuantities",
     "Resonance",
+    "Resonances",
+    "SupplyResonance",
     "ToleranceResult",
+    "TransformerDerating",
+    "TuningDrift",
+    "TwoPortImpedance",
     "VoltageCheck",
+    "bode",
+    "cable_ac_resistance",
+    "cable_harmonic_loss",
+    "capacitor_bank",
     "capacitor_duty",
+    "capacitor_steps",
     "characteristic_orders",
     "check_current",
     "check_voltage",
     "current_limit_pct",
+    "damping_for_margin",
     "detuning",
     "drive_sources",
+    "filter_rating",
+    "filter_resonance",
     "find_resonances",
+    "frequency_response",
+    "harmonic_loss_factor",
+    "highpass_filter",
+    "input_filter_margin",
+    "k_factor",
+    "negative_input_resistance",
+    "network_poles",
+    "noise_density",
+    "noise_rms",
+    "port_impedance",
+    "port_powers",
+    "power_quantities",
+    "read_harmonic_spectrum",
+    "read_order_amps",
     "resonance_order_rule",
+    "size_parallel_damping",
+    "skin_effect_factor",
     "tdd_limit_pct",
     "tolerance_study",
+    "transfer_poles_zeros",
+    "transfer_zeros",
+    "transformer_derating",
+    "tuned_filter",
+    "tuning_drift",
+    "two_port_impedances",
     "voltage_limits_pct",
 ]

@@ -291,26 +291,26 @@ class PreparedBook:
     def evaluate(self, sets: dict[str, Any] | None = None) -> dict[tuple[str, int, int], Any]:
         """Start from the book as loaded, set inputs (target → value) checked against their
         data validation, and recalculate. Returns the cells that were set."""
-        planned: dict[tuple[str, int, int], tuple[str, Any, Rule | None]] = {}
+        planned: dict[tuple[str, int, int], tuple[str, Any, Rule | None, Any]] = {}
         for target, value in (sets or {}).items():
             sheet, r, c = self.input_cell(target)
             rule = self.rule(sheet, r, c)
-            planned[(sheet, r, c)] = (target, coerce(rule, value), rule)
+            planned[(sheet, r, c)] = (target, coerce(rule, value), rule, value)
         for key in list(self._pristine):  # cells an earlier case set go back first
             if key not in planned:
                 self.engine.restore(*key, self._pristine.pop(key))
         done: dict[tuple[str, int, int], Any] = {}
-        for (sheet, r, c), (_target, value, _rule) in planned.items():
+        for (sheet, r, c), (_target, value, _rule, _typed) in planned.items():
             if (sheet, r, c) not in self._pristine:
                 self._pristine[(sheet, r, c)] = self.engine.snapshot(sheet, r, c)
             self.engine.set_value(sheet, r, c, value)
             done[(sheet, r, c)] = value
         self.engine.evaluate()
         self.notes = []
-        for (sheet, r, c), (target, value, rule) in planned.items():
+        for (sheet, r, c), (target, value, rule, typed) in planned.items():
             if rule is None:
                 continue
-            problem = violation(rule, value, self._bound(sheet), self._list_items(sheet))
+            problem = violation(rule, value, self._bound(sheet), self._list_items(sheet), typed)
             if problem is None:
                 continue
             where = self._label(target, sheet, r, c)

@@ -152,12 +152,19 @@ def _bound_text(x: float) -> str:
 
 
 def violation(
-    rule: Rule, value: Any, bound: Callable[[str], Any], list_items: Callable[[str], list[Any]]
+    rule: Rule,
+    value: Any,
+    bound: Callable[[str], Any],
+    list_items: Callable[[str], list[Any]],
+    typed: Any = None,
 ) -> str | None:
     """None when ``value`` satisfies ``rule``; otherwise what the cell expects, in words
     (``expects a whole number ≥ 0, got 'two'``). ``bound`` turns a bound's formula text into
-    a number (or raises :class:`ValueError`); ``list_items`` gives a list source's items."""
+    a number (or raises :class:`ValueError`); ``list_items`` gives a list source's items;
+    ``typed`` is what the user typed when ``value`` was read from it (``'80M'`` → 8e7)."""
     got = f", got {_shown(value)}"
+    if typed is not None and typed != value:
+        got = f", got {_shown(typed)} (= {_shown(value)})"
     tail = f' (the book says: "{rule.message}")' if rule.message else ""
     blank = value is None or (isinstance(value, str) and value == "")
     if blank:

@@ -1,0 +1,86 @@
+"""``xlfuncs study``: a three-phase harmonic study from an equipment table (CSV)."""
+
+from __future__ import annotations
+
+import argparse
+from typing import Any
+
+from ..power import CAUTION, NOT_MODELLED, harmonic_study
+from ..power.views import branch_table, bus_table, fundamental_table, neutral_table, thd_basis
+from .common import format_table, read_csv_table
+
+
+def register(sub: Any) -> None:
+    """Add this module's command to the subparsers ``sub``."""
+    s = sub.add_parser(
+        "study",
+        help="three-phase harmonic study from equipment ratings (sequence networks)",
+        description="Balanced three-phase harmonic study: fundamental solve with the "
+        "converters as constant power, then every harmonic order in its sequence network. "
+        + CAUTION,
+    )
+    s.add_argument("equipment", help="equipment table (CSV, header row first)")
+    s.add_argument("--spectra", help="spectra table (CSV: spectrum,order,pct,phase_deg)")
+    s.add_argument(
+        "--options", help="options table (CSV: key,value; fundamental_hz required, max_order)"
+    )
+    s.add_argument("--bus", required=True, help="bus whose harmonic voltages are printed")
+    s.add_argument(
+        "--item",
+        action="append",
+        default=[],
+        metavar="NAME",
+        help="also print the line currents of this item (repeatable)",
+    )
+    s.add_argument(
+        "--neutral",
+        action="append",
+        default=[],
+        metavar="NAME",
+        help="also print the neutral current of this grounded star (repeatable)",
+    )
+    s.set_defaults(run=_study)
+
+
+def _study(args: argparse.Namespace) -> int:
+    eq = read_csv_table(args.equipment)
+    spectra = read_csv_table(args.spectra) if args.spectra else None
+    options = read_csv_table(args.options) if args.options else None
+    st = harmonic_study(eq, spectra, options)
+    fr = st.fundamental
+    print("Three-phase harmonic study (balanced; per phase, line-to-neutral)")
+    print(
+        f"fundamental {st.f1:g} Hz: constant-power devices converged in {fr.iterations} "
+        f"iterations, power mismatch {fr.mismatch:.1e}"
+    )
+    print(format_table(fundamental_table(st)))
+    if fr.theta1_deg:
+        print()
+        print(
+            format_table(
+                [["device", "bus", "i1_rms", "theta1_deg"]]
+                + [
+                    [n, st.equipment.item(n).bus, abs(i) / 2**0.5, fr.theta1_deg[n]]
+                    for n, i in fr.device_current.items()
+                ]
+            )
+        )
+    bus = st.equipment.bus(args.bus)
+    print()
+    print(f"Bus {bus} ({st.bus_kv(bus):g} kV nominal): voltage per order (V rms, line-to-neutral)")
+    print(format_table(bus_table(st, bus)))
+    for name in args.item:
+        print()
+        print(f"Item {name}: line current from its bus (A rms)")
+        print(format_table(branch_table(st, name)))
+    for name in args.neutral:
+        print()
+        print(f"Item {name}: neutral current (A rms)")
+        print(format_table(neutral_table(st, name)))
+    print()
+    print(thd_basis(st))
+    for note in st.assumptions:
+        print(f"assumed: {note}")
+    print(NOT_MODELLED)
+    print(CAUTION)
+    return 0
