@@ -217,6 +217,23 @@ class Campaign:
         return True, "12 cases, each once, values identical to an uninterrupted run"
 
 
+def defined_cell(book: Path, name: str) -> tuple[str, str, str]:
+    """(sheet, sheet part, cell) a defined name of the book points at."""
+    import re
+
+    z = zipfile.ZipFile(book)
+    wb = z.read("xl/workbook.xml").decode()
+    ref = re.search(rf'<definedName name="{name}"[^>]*>([^<]+)</definedName>', wb).group(1)
+    sheet, cell = ref.replace("$", "").replace("'", "").split("!")
+    rid = re.search(rf'<sheet name="{sheet}"[^>]*r:id="([^"]+)"', wb).group(1)
+    rels = z.read("xl/_rels/workbook.xml.rels").decode()
+    target = re.search(rf'Id="{rid}"[^>]*Target="([^"]+)"', rels) or re.search(
+        rf'Target="([^"]+)"[^>]*Id="{rid}"', rels
+    )
+    part = target.group(1).lstrip("/")
+    return sheet, part if part.startswith("xl/") else f"xl/{part}", cell
+
+
 def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument(
@@ -326,33 +343,39 @@ def main() -> int:
     c.trial("recalc killed (SIGKILL) at 4 moments", killed_recalc)
 
     # ----------------------------------------------------------- inputs and verdicts
-    dv_book = books.add_validation(
-        a.template,
-        tmp / "plant_dv.xlsx",
-        "xl/worksheets/sheet1.xml",
-        '<dataValidation type="whole" operator="greaterThanOrEqual" allowBlank="1" '
-        'showErrorMessage="1" sqref="B14"><formula1>0</formula1></dataValidation>',
-    )
+    sheet, part, cell = defined_cell(a.template, "cap_steps")
+    dv_book = a.template
+    if "dataValidation" not in zipfile.ZipFile(a.template).read(part).decode():
+        dv_book = books.add_validation(
+            a.template,
+            tmp / "plant_dv.xlsx",
+            part,
+            '<dataValidation type="whole" operator="greaterThanOrEqual" allowBlank="1" '
+            f'showErrorMessage="1" sqref="{cell}"><formula1>0</formula1></dataValidation>',
+        )
     c.trial(
         "recalc --set cap_steps=two on a book whose input is validated (whole ≥ 0)",
         lambda: one_line_refusal(
             run(["recalc", str(dv_book), "--set", "cap_steps=two"], tmp),
-            must=("cap_steps", "Inputs!B14", "whole"),
+            must=("cap_steps", f"{sheet}!{cell}", "whole"),
         ),
     )
 
     def garbage_exit() -> tuple[bool, str]:
-        r = run(["recalc", tpl, "-o", str(tmp / "g.xlsx"), "--set", "cap_steps=two"], tmp)
+        # a book whose formulas end in errors (1/0, a blocked spill, an unknown node)
+        r = run(["recalc", str(divider), "-o", str(tmp / "g.xlsx")], tmp)
         return r.rc != 0 and "Traceback" not in r.err, f"exit {r.rc}: {r.out.strip()[-120:]}"
 
     c.trial("recalc whose formulas end in errors exits non-zero", garbage_exit)
 
     def no_forced_recalc() -> tuple[bool, str]:
-        out = tmp / "cached.xlsx"
-        run(["recalc", tpl, "-o", str(out)], tmp)
-        wb = zipfile.ZipFile(out).read("xl/workbook.xml").decode()
-        calc = wb[wb.find("<calcPr") :].split(">")[0]
-        return 'fullCalcOnLoad="1"' not in calc, calc
+        seen = []
+        for src in (tpl, str(divider)):  # the template, and a book as a user's tool wrote it
+            out = tmp / "cached.xlsx"
+            run(["recalc", src, "-o", str(out)], tmp)
+            wb = zipfile.ZipFile(out).read("xl/workbook.xml").decode()
+            seen.append(wb[wb.find("<calcPr") :].split(">")[0] + ">")
+        return all('fullCalcOnLoad="1"' not in x for x in seen), " and ".join(seen)
 
     c.trial("recalc output does not force a full recalculation on load", no_forced_recalc)
 
@@ -451,10 +474,12 @@ def main() -> int:
     c.trial("two batches on the same output directory", two_at_once)
 
     def errors_without_collect() -> tuple[bool, str]:
+        # an input without validation, and a value its formulas cannot use
+        book = books.clean_divider_book(tmp / "clean.xlsx", validate=False)
         p = tmp / "garbage.csv"
-        p.write_text("case,cap_steps\ngood,2\nbad,two\n")
+        p.write_text("case,R1_value\ngood,2k\nbad,4.7q\n")
         out = tmp / "nocollect"
-        r = run(["batch", tpl, str(p), "-o", str(out), "--no-progress"], tmp)
+        r = run(["batch", str(book), str(p), "-o", str(out), "--no-progress"], tmp)
         rows = {row["case"]: row["status"] for row in read_summary(out) or []}
         return rows.get("bad") not in (None, "ok") and rows.get("good") == "ok", (
             f"exit {r.rc}, statuses {rows}"
