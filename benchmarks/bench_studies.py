@@ -1,7 +1,9 @@
 """Study benchmarks: figures, not tests.
 
 Tolerance Monte Carlo: 10 000 samples × 10 frequencies × 20 nodes (target: under 1 s on
-2 cores), with the tracemalloc peak of the run.
+2 cores), with the tracemalloc peak of the run; the same study with BLAS held to one
+thread during the batched solves (the default) against BLAS left at its own thread
+count, measured in the same run.
 """
 
 from __future__ import annotations
@@ -41,6 +43,18 @@ def main() -> None:
         t0 = time.perf_counter()
         tolerance_study(parts, sources, opts, target="Rload", samples=10_000, corners=False)
         times.append(time.perf_counter() - t0)
+    default_blas = []
+    for _ in range(3):
+        t0 = time.perf_counter()
+        tolerance_study(
+            parts, sources, opts, target="Rload", samples=10_000, corners=False, blas_threads=None
+        )
+        default_blas.append(time.perf_counter() - t0)
+    t1, tn = statistics.median(times), statistics.median(default_blas)
+    print(
+        f"tolerance, 2 worker threads: BLAS held to 1 thread {t1:.3f} s | BLAS threads left "
+        f"as they are {tn:.3f} s | ratio {t1 / tn:.2f}"
+    )
     tracemalloc.start()
     t0 = time.perf_counter()
     r = tolerance_study(parts, sources, opts, target="Rload", samples=10_000, corners=True)

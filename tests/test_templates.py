@@ -481,6 +481,7 @@ def test_plant_study_against_standards_and_rule_of_thumb():
     x = zu * n["xr_util"] / math.sqrt(1 + n["xr_util"] ** 2) + zt * n["tx_xr"] / math.sqrt(
         1 + n["tx_xr"] ** 2
     )
+    r, x = r + n["inc_m"] / 1e3 * n["inc_r"], x + n["inc_m"] / 1e3 * n["inc_x"]  # LV incomer
     s_sc = v**2 / math.hypot(r, x) / 1e6
     q = n["cap_steps"] * n["cap_kvar_step"] / 1e3
     assert n["res_rule"] == pytest.approx(math.sqrt(s_sc / q), rel=1e-9)

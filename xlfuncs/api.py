@@ -21,7 +21,7 @@ import numpy as np
 from .circuit import Circuit
 from .errors import InputError, TableError
 from .solution import Solution
-from .solver import System, build_system, diagnose, solve_stacked
+from .solver import System, build_system
 
 __all__ = ["impedance_scan", "solve", "system_of", "transfer_impedance"]
 
@@ -79,6 +79,9 @@ def transfer_impedance(
 ) -> tuple[np.ndarray, np.ndarray]:
     """V(measure_node) per ampere injected into ``inject_node`` (from the reference),
     with every independent source zeroed. Equal nodes give the driving-point impedance.
+
+    Solved through :meth:`System.solve` (pencil, dense or sparse path from the cost
+    model, frequencies streamed in blocks, every frequency checked).
     """
     circuit = parts if isinstance(parts, Circuit) else Circuit.from_tables(parts, sources, options)
     f = np.asarray(freqs_hz, dtype=float).reshape(-1)
@@ -88,11 +91,10 @@ def transfer_impedance(
         _node_index(circuit, n, col) for n, col in ((inject_node, "node"), (measure_node, "node"))
     ]
     system = build_system(circuit)
-    diagnose(circuit, dc=bool(np.any(f == 0)))
-    b = np.zeros((f.size, system.n), dtype=complex)
-    b[:, idx[0]] = 1.0
-    x = solve_stacked(system, system.matrices(f), b, f)
-    return f, x[:, idx[1]]
+    # one injection at every frequency, one unknown kept: memory O(F), whatever F is
+    e = np.zeros(system.n, dtype=complex)
+    e[idx[0]] = 1.0
+    return f, system.solve(f, rhs=e, columns=[idx[1]])[:, 0]
 
 
 def _node_index(circuit: Circuit, node: Any, column: str) -> int:

@@ -6,6 +6,8 @@ import math
 import numpy as np
 import pytest
 import sympy as sp
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 import xlfuncs
 from xlfuncs.errors import InputError, TableError
@@ -152,15 +154,38 @@ def test_capacitor_resonance_matches_the_published_rule(ssc_mva, kvar, v, expect
 def test_tuned_filter_resonance_closed_form_and_damping():
     d = tuned_filter(300, 480, 60, 4.7, 1e4, 3)
     lossless = filter_resonance(d, 30, 1e4)
-    xs = 480**2 / 30e6
+    xs = 480**2 / 30e6 * 1e4 / math.sqrt(1 + 1e8)  # |Z_s| = V²/S_sc split by X/R
     h_p = math.sqrt(d.x_c_ohm / (xs + d.x_l_ohm))  # lossless closed form (common practice)
     assert lossless.order == pytest.approx(h_p, rel=1e-6)
     damped = filter_resonance(tuned_filter(300, 480, 60, 4.7, 30, 3), 30, 5)
     assert damped.z_ohm < lossless.z_ohm and abs(damped.order / h_p - 1) < 0.02
     # |Z| at the resonance agrees with the closed-form parallel impedance there
-    zs = xs / 5 + 1j * xs * damped.order
+    zs5 = 480**2 / 30e6 / math.sqrt(26)  # R_s of |Z_s| = V²/S_sc at X/R = 5
+    zs = zs5 + 1j * 5 * zs5 * damped.order
     zf = tuned_filter(300, 480, 60, 4.7, 30, 3).impedance(damped.freq_hz)
     assert damped.z_ohm == pytest.approx(abs(zs * zf / (zs + zf)), rel=1e-9)
+
+
+def test_supply_impedance_is_the_short_circuit_power_split_by_x_over_r():
+    """S_sc = V²/|Z_s| (definition of the short-circuit power; IEC 60909-0 with c = 1):
+    at X/R = 1 the supply is |Z_s|/√2 + j|Z_s|/√2. The three-phase study models its supply
+    the same way, so a study of supply + filter item finds the same parallel resonance."""
+    from xlfuncs.power import harmonic_study
+
+    d = tuned_filter(300, 480, 60, 4.7, 30, 3)
+    r = filter_resonance(d, 2.0, 1.0)
+    z = 480**2 / 2e6
+    assert r.x_s_ohm == pytest.approx(z / math.sqrt(2), rel=1e-14)
+    assert r.r_s_ohm == pytest.approx(z / math.sqrt(2), rel=1e-14)
+    head = ["name", "kind", "bus", "kv", "mva_sc", "x_r", "kvar", "tuned_order", "q_factor"]
+    eq = [
+        [*head, "connection"],
+        ["U1", "supply", "B1", 0.48, 2.0, 1.0, None, None, None, None],
+        ["F1", "filter", "B1", 0.48, None, None, 480**2 / d.x_c_ohm / 1e3, 4.7, 30.0, "Y"],
+    ]
+    st = harmonic_study(eq, None, {"fundamental_hz": 60})
+    par = [x for x in st.resonances("B1", 60, 20 * 60) if x.kind == "parallel"]
+    assert par[0].order == pytest.approx(r.order, rel=1e-6)
 
 
 # ----------------------------------------------------------------------------- rating
@@ -340,3 +365,113 @@ def test_docstring_examples_run():
 
     res = doctest.testmod(module)
     assert res.attempted > 0 and res.failed == 0
+
+
+# ------------------------------------------------------------ a filter item of a study
+# Invented 480 V, 60 Hz bus (demo data): supply 20 MVA, X/R 10; a 300 kvar single-tuned
+# filter item (4.7th, q 40); a 250 kW six-pulse converter with the ideal spectrum.
+F_HEAD = ["name", "kind", "bus", "kv", "mva_sc", "x_r", "kvar", "tuned_order", "q_factor"]
+F_HEAD += ["connection", "kw", "pf", "pulses"]
+
+
+def _filter_plant(connection):
+    rows = [
+        {"name": "U1", "kind": "supply", "bus": "B1", "kv": 0.48, "mva_sc": 20.0, "x_r": 10.0},
+        {"name": "F1", "kind": "filter", "bus": "B1", "kv": 0.48, "kvar": 300.0,
+         "tuned_order": 4.7, "q_factor": 40.0, "connection": connection},
+        {"name": "D1", "kind": "converter", "bus": "B1", "kv": 0.48, "kw": 250.0, "pf": 0.95,
+         "pulses": 6},
+    ]  # fmt: skip
+    return [F_HEAD, *[[r.get(h) for h in F_HEAD] for r in rows]]
+
+
+STUDY_OPTS = [["key", "value"], ["fundamental_hz", 60]]
+
+
+def test_study_filter_rating_by_the_current_divider():
+    """The converter's h-th current splits between supply and filter:
+    I_f = I_h·Z_s/(Z_s + Z_f) (circuit theory), Z_f = R + j(h·X_L − X_C/h) from the item's
+    ratings (X_C = kV²/kvar, X_L = X_C/h_t², R = X_C/(h_t·q)), Z_s = R_s + jh·X_s from
+    kV²/MVA and X/R; at the fundamental I_f = V_bus/Z_f."""
+    from xlfuncs.power import harmonic_study
+    from xlfuncs.studies import item_filter_rating
+
+    st = harmonic_study(_filter_plant("Y"), None, STUDY_OPTS)
+    xc = 480**2 / 300e3
+    xl, r = xc / 4.7**2, xc / 4.7 / 40
+    zs_mag = 480**2 / 20e6
+    rs = zs_mag / math.sqrt(101)
+    h = st.orders.astype(float)
+    zf = r + 1j * (h * xl - xc / h)
+    zs = rs + 1j * h * 10 * rs
+    inj = np.abs(st.branch_current("D1").phasors) / math.sqrt(2)  # the converter's own current
+    i_f = inj * np.abs(zs / (zs + zf))
+    i_f[0] = abs(st.bus_voltage("B1").phasors[0]) / math.sqrt(2) / abs(zf[0])
+    rt = item_filter_rating(st, "F1")
+    assert rt.reactor_rms_a == pytest.approx(math.sqrt(float(np.sum(i_f**2))), rel=1e-9)
+    assert rt.reactor_i1_a == pytest.approx(i_f[0], rel=1e-9)
+    assert rt.loss_w == pytest.approx(3 * r * float(np.sum(i_f**2)), rel=1e-9)
+    assert rt.reactor_rms_v == pytest.approx(
+        math.sqrt(float(np.sum((i_f * xl * h) ** 2))), rel=1e-9
+    )
+    rows = {row[0]: row for row in rt.capacitor_rows}
+    v_c = math.sqrt(float(np.sum((i_f * xc / h) ** 2)))  # V_C,h = I_h·X_C/h, one star unit
+    assert rows["rms voltage"][1] == pytest.approx(v_c, rel=1e-9)
+    assert rows["rms voltage"][2] == pytest.approx(480 / math.sqrt(3), rel=1e-12)
+    assert rows["kvar"][2] == pytest.approx(100.0, rel=1e-12)  # kvar/3 per unit
+    # the same duty as the study's own IEEE 18 check of the item
+    duty = FUNCTIONS["CKT_ITEM_CAPDUTY"].call(_filter_plant("Y"), None, "F1", STUDY_OPTS)
+    for mine, theirs in zip(rt.capacitor_rows, duty[1:], strict=True):
+        assert mine[3] == pytest.approx(theirs[3], rel=1e-12)
+    assert rt.design.tuned_order == 4.7 and rt.design.x_c_ohm == pytest.approx(xc, rel=1e-15)
+
+
+def test_study_delta_filter_is_its_star_equivalent_per_leg():
+    """A delta leg has three times the star equivalent's impedance and carries 1/√3 of the
+    line current (delta-star equivalence): reactor current /√3, reactor voltage ×√3, the
+    same losses; the network (star equivalent) is the same."""
+    from xlfuncs.power import harmonic_study
+    from xlfuncs.studies import item_filter_rating
+
+    y = item_filter_rating(harmonic_study(_filter_plant("Y"), None, STUDY_OPTS), "F1")
+    d = item_filter_rating(harmonic_study(_filter_plant("D"), None, STUDY_OPTS), "F1")
+    assert d.reactor_rms_a == pytest.approx(y.reactor_rms_a / math.sqrt(3), rel=1e-12)
+    assert d.reactor_rms_v == pytest.approx(y.reactor_rms_v * math.sqrt(3), rel=1e-12)
+    assert d.loss_w == pytest.approx(y.loss_w, rel=1e-12)
+    assert "line-to-line" in d.basis and "(D," in d.basis
+
+
+def test_study_filter_rating_worksheet_function_and_refusals():
+    out = FUNCTIONS["CKT_ITEM_FILTER_RATING"].call(_filter_plant("Y"), None, "F1", STUDY_OPTS)
+    assert out[0] == ["quantity", "value", "rated", "ratio", "limit", "result"]
+    assert [r[0] for r in out[1:5]] == [
+        "capacitor rms voltage", "capacitor peak voltage", "capacitor rms current",
+        "capacitor kvar",
+    ]  # fmt: skip
+    assert out[-1][0] == "basis" and "licensed engineer" in out[-1][1]
+    bad = FUNCTIONS["CKT_ITEM_FILTER_RATING"].call(_filter_plant("Y"), None, "U1", STUDY_OPTS)
+    assert bad == "ERROR: argument, column item: 'U1' — 'U1' is a supply; expected a filter"
+
+
+@settings(max_examples=12, deadline=None)
+@given(
+    st.floats(2.0, 50.0),  # short-circuit MVA
+    st.floats(2.0, 20.0),  # X/R
+    st.floats(100.0, 600.0),  # filter kvar
+    st.floats(2.5, 12.0),  # tuned order
+    st.floats(10.0, 100.0),  # q
+    st.floats(50.0, 400.0),  # converter kW
+)
+def test_study_filter_losses_are_its_ieee1459_active_power(ssc, xr, kvar, h_t, q, kw):
+    """Power balance of the filter branch: the active power IEEE 1459 finds at its
+    terminals (every order) is what its R dissipates, 3·Σ I_h²·R."""
+    from xlfuncs.power import harmonic_study
+    from xlfuncs.studies import item_filter_rating, item_powers
+
+    eq = _filter_plant("Y")
+    eq[1][F_HEAD.index("mva_sc")], eq[1][F_HEAD.index("x_r")] = ssc, xr
+    eq[2][F_HEAD.index("kvar")], eq[2][F_HEAD.index("tuned_order")] = kvar, h_t
+    eq[2][F_HEAD.index("q_factor")], eq[3][F_HEAD.index("kw")] = q, kw
+    st_ = harmonic_study(eq, None, STUDY_OPTS)
+    absorbed = item_powers(st_, "F1").P
+    assert absorbed == pytest.approx(item_filter_rating(st_, "F1").loss_w, rel=1e-9)

@@ -368,3 +368,172 @@ def test_docstring_examples_run():
 
     res = doctest.testmod(module)
     assert res.attempted > 0 and res.failed == 0
+
+
+# ------------------------------------------------------------ items of a three-phase study
+# An invented 480 V, 60 Hz bus (demo data): supply 20 MVA, X/R 10; a 150 kvar star bank; a
+# 100 kW resistive load (series form, pf 1: R = kV²/P); a 200 kW six-pulse converter with the
+# ideal spectrum. No transformer, so every zone frame is 0° and the expanded networks can be
+# merged into one core solve (the per-part path).
+EQ_HEAD = ["name", "kind", "bus", "bus_to", "kv", "mva_sc", "x_r", "mva_sc_1ph", "kvar"]
+EQ_HEAD += ["connection", "kw", "pf", "model", "pulses", "spectrum", "length_km", "r_ohm_km"]
+EQ_HEAD += ["x_ohm_km", "r0_ohm_km", "x0_ohm_km"]
+
+
+def _eq(*rows):
+    return [EQ_HEAD, *[[r.get(h) for h in EQ_HEAD] for r in rows]]
+
+
+SUPPLY = {"name": "U1", "kind": "supply", "bus": "B1", "kv": 0.48, "mva_sc": 20.0, "x_r": 10.0}
+BANK = {"name": "C1", "kind": "capacitor", "bus": "B1", "kv": 0.48, "kvar": 150.0}
+LOAD = {"name": "L1", "kind": "load", "bus": "B1", "kv": 0.48, "kw": 100.0, "pf": 1.0}
+DRIVE = {"name": "D1", "kind": "converter", "bus": "B1", "kv": 0.48, "kw": 200.0, "pf": 0.95}
+PLANT = _eq(
+    SUPPLY,
+    BANK | {"connection": "Y"},
+    LOAD | {"model": "series"},
+    DRIVE | {"pulses": 6},
+)
+STUDY_OPTS = [["key", "value"], ["fundamental_hz", 60]]
+
+
+def _merged_tables(study):
+    """The fundamental network with every harmonic injection added: one core solve gives
+    what the study gives (all frames 0°; a voltage source is a short at other tones)."""
+    one = study.network("1")
+    sources = one.sources + [r for s in "+-" for r in study.network(s).sources[1:]]
+    return one.parts, sources, one.options
+
+
+@pytest.mark.parametrize(("item", "part"), [("C1", "C1.C"), ("L1", "L1.R")])
+def test_study_item_powers_equal_the_per_part_path(item, part):
+    from xlfuncs.power import harmonic_study
+
+    st = harmonic_study(PLANT, None, STUDY_OPTS)
+    parts, sources, opts = _merged_tables(st)
+    want = FUNCTIONS["CKT_POWERS"].call(parts, sources, part, opts, "3ph3w")
+    got = FUNCTIONS["CKT_ITEM_POWERS"].call(PLANT, None, item, STUDY_OPTS)
+    scale = max(abs(r[1]) for r in want[1:4])  # P, P1, Q1: round-off is relative to them
+    for (name, a, _u), (name2, b, _u2) in zip(want[1:-1], got[1:-1], strict=True):
+        assert name == name2
+        assert b == pytest.approx(a, rel=1e-9, abs=1e-12 * scale), name
+
+
+def test_study_item_powers_closed_forms():
+    """A capacitor absorbs no active power and carries h·ω₁·C·V_h; its fundamental
+    reactive power is its rating times (V₁/kV)²; a resistor's current follows its voltage
+    (THD_I = THD_V, PF1 = 1) and P = Σ 3·V_h²/R (circuit theory)."""
+    from xlfuncs.power import harmonic_study
+    from xlfuncs.studies import item_powers
+
+    st = harmonic_study(PLANT, None, STUDY_OPTS)
+    v = st.bus_voltage("B1")
+    v_rms = np.abs(v.phasors) / R2
+    h = st.orders.astype(float)
+    cap = item_powers(st, "C1")
+    p, q1, thd_i = cap.P, cap.Q1, cap.THD_I
+    assert abs(p) <= 1e-12 * cap.S
+    assert q1 == pytest.approx(-150e3 * (math.sqrt(3) * v_rms[0] / 480) ** 2, rel=1e-12)
+    ih = np.sqrt(np.sum((h[1:] * v_rms[1:]) ** 2))
+    assert thd_i == pytest.approx(ih / v_rms[0], rel=1e-12)
+    assert cap.wiring == "3ph3w" and "no grounded star" in cap.basis
+    res = item_powers(st, "L1")
+    p, thd_i, thd_v, pf, pf1 = res.P, res.THD_I, res.THD_V, res.PF, res.PF1
+    r = 480**2 / 100e3  # R = kV²/P of the series form at pf 1
+    assert p == pytest.approx(3 * float(np.sum(v_rms**2)) / r, rel=1e-12)
+    assert thd_i == pytest.approx(thd_v, rel=1e-12)
+    assert pf1 == pytest.approx(1.0, abs=1e-12) and pf == pytest.approx(1.0, abs=1e-12)
+    # the supply delivers what the items absorb (power balance)
+    absorbed = sum(item_powers(st, n).P for n in ("C1", "L1", "D1"))
+    delivered = -item_powers(st, "U1").P
+    assert delivered == pytest.approx(absorbed, rel=1e-9)
+
+
+def test_study_cable_ends_add_up_to_its_losses():
+    """P(bus) + P(bus_to) of a cable is what its series R absorbs: 3·Σ I_h²·R·√h with the
+    study's R ∝ √h (power balance of the branch)."""
+    from xlfuncs.power import harmonic_study
+    from xlfuncs.studies import item_powers
+
+    cable = {"name": "K1", "kind": "cable", "bus": "B1", "bus_to": "B2", "length_km": 0.2}
+    cable |= {"r_ohm_km": 0.1, "x_ohm_km": 0.08}
+    eq = _eq(SUPPLY, cable, DRIVE | {"bus": "B2", "pulses": 6})
+    st = harmonic_study(eq, None, STUDY_OPTS)
+    i = np.abs(st.branch_current("K1").phasors) / R2
+    loss = 3 * float(np.sum(i**2 * 0.02 * np.sqrt(st.orders)))
+    both = sum(item_powers(st, "K1", end).P for end in ("bus", "bus_to"))
+    assert both == pytest.approx(loss, rel=1e-9)
+
+
+def test_study_item_with_zero_sequence_is_four_wire():
+    """Triplens of a grounded-star converter into a grounded-star bank: the default wiring
+    is 3ph4w and equals power_quantities on the per-network phasors; 3ph3w is refused."""
+    from xlfuncs.power import harmonic_study
+    from xlfuncs.studies import item_powers
+
+    spectra = [["spectrum", "order", "pct", "phase_deg"], ["S1", 3, 60, 0], ["S1", 5, 30, 0]]
+    eq = _eq(
+        SUPPLY | {"mva_sc_1ph": 15.0},
+        BANK | {"connection": "YN"},
+        DRIVE | {"connection": "YN", "spectrum": "S1"},
+    )
+    st = harmonic_study(eq, spectra, STUDY_OPTS)
+    q = item_powers(st, "C1")
+    assert q.wiring == "3ph4w" and "grounded star" in q.basis
+    freqs, v, i = [], [], []
+    for s in ("1", "+", "-", "0"):
+        net = st.network(s)
+        if net.sources is None:
+            continue
+        sol = xlfuncs.solve(net.parts, net.sources, net.options)
+        freqs += list(sol.freqs_hz)
+        v += list(sol.voltage("C1.C").phasors)
+        i += list(sol.current("C1.C").phasors)
+    ref = power_quantities(freqs, v, i, 60.0, "3ph4w")
+    for name, _unit in POWER_ROWS:
+        assert getattr(q, name) == pytest.approx(getattr(ref, name), rel=1e-9, abs=1e-9), name
+    with pytest.raises(InputError, match="zero-sequence"):
+        item_powers(st, "C1", wiring="3ph3w")
+
+
+def test_study_item_powers_refusals():
+    from xlfuncs.power import harmonic_study
+    from xlfuncs.studies import item_powers
+
+    motor = {"name": "M1", "kind": "motor", "bus": "B1", "kv": 0.48, "x_r": 10.0}
+    eq = _eq(SUPPLY, DRIVE | {"pulses": 6}, motor)
+    eq[0] += ["kva", "x_pct"]
+    for r in eq[1:]:
+        r += [250.0, 17.0] if r[0] == "M1" else [None, None]
+    st = harmonic_study(eq, None, STUDY_OPTS)
+    with pytest.raises(InputError, match="kw and pf"):
+        item_powers(st, "M1")  # no running load: no fundamental current to refer to
+    with pytest.raises(InputError, match=r"item_wiring.*three-phase"):
+        item_powers(st, "D1", wiring="1ph")
+    with pytest.raises(InputError, match="bus_to only"):
+        item_powers(st, "D1", "bus_to")
+    out = FUNCTIONS["CKT_ITEM_POWERS"].call(PLANT, None, "#N/A", STUDY_OPTS)
+    assert out.startswith("ERROR: argument, column item: '#N/A'")
+    out = FUNCTIONS["CKT_ITEM_POWERS"].call(PLANT, None, "X9", STUDY_OPTS)
+    assert out.startswith("ERROR: ") and "no item of that name" in out
+
+
+def test_study_item_command_line(tmp_path, capsys):
+    import csv
+
+    from xlfuncs.cli import main
+
+    path = tmp_path / "equipment.csv"
+    with path.open("w", newline="", encoding="utf-8") as fh:
+        csv.writer(fh).writerows(PLANT)
+    opts = tmp_path / "options.csv"
+    opts.write_text("key,value\nfundamental_hz,60\n", encoding="utf-8")
+    assert main(["duty", "item", str(path), "--options", str(opts), "--item", "C1"]) == 0
+    out = capsys.readouterr().out
+    assert "IEEE Std 1459-2010" in out and "Capacitor duty of one phase unit" in out
+    assert "licensed engineer" in out
+    assert (
+        main(["duty", "item", str(path), "--options", str(opts), "--item", "C1", "--p-ec", "0.1"])
+        == 2
+    )
+    assert "not a transformer" in capsys.readouterr().err

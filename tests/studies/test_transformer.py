@@ -189,3 +189,121 @@ def test_docstring_examples_run():
 
     res = doctest.testmod(module)
     assert res.attempted > 0 and res.failed == 0
+
+
+# ------------------------------------------------------------ a transformer of a study
+# Invented plant (demo data): 13.8 kV supply of 250 MVA, a 2000 kVA 13.8/0.48 kV transformer,
+# and on its LV bus only a six-pulse converter: every harmonic current of the converter flows
+# through the transformer (Kirchhoff's current law), so the LV line current is the ideal
+# six-pulse current, I_h = I_1/h at h = 6k ± 1 (its Fourier series, common practice).
+XF_HEAD = ["name", "kind", "bus", "bus_to", "kv", "mva_sc", "x_r", "mva_sc_1ph", "kva"]
+XF_HEAD += ["kv_hv", "kv_lv", "z_pct", "connection", "kw", "pf", "pulses", "spectrum"]
+
+
+def _plant(group, converter_extra=None):
+    conv = {"name": "D1", "kind": "converter", "bus": "LV", "kv": 0.48, "kw": 800.0, "pf": 0.95}
+    conv |= converter_extra or {"pulses": 6}
+    rows = [
+        {"name": "U1", "kind": "supply", "bus": "PCC", "kv": 13.8, "mva_sc": 250.0, "x_r": 12.0},
+        {"name": "T1", "kind": "transformer", "bus": "PCC", "bus_to": "LV", "kva": 2000.0,
+         "kv_hv": 13.8, "kv_lv": 0.48, "z_pct": 5.75, "x_r": 8.0, "connection": group},
+        conv,
+    ]  # fmt: skip
+    return [XF_HEAD, *[[r.get(h) for h in XF_HEAD] for r in rows]]
+
+
+OPTS = [["key", "value"], ["fundamental_hz", 60], ["max_order", 50]]
+
+
+@pytest.mark.parametrize("group", ["Dyn11", "Yyn0", "YNd1"])
+def test_study_transformer_derating_closed_form(group):
+    from xlfuncs.power import harmonic_study
+    from xlfuncs.studies import item_derating
+
+    st = harmonic_study(_plant(group), None, OPTS)
+    h = np.array([6 * k + s for k in range(1, 9) for s in (-1, 1) if 6 * k + s <= 50], float)
+    f_hl = (1 + h.size) / (1 + float(np.sum(1 / h**2)))  # Σ(1/h)²h² / Σ(1/h)², h = 1 included
+    d = item_derating(st, "T1", 0.1)
+    got = d.derating
+    f_hl_, k_, i_max = got.F_HL, got.K_factor, got.I_max_pu
+    assert f_hl_ == pytest.approx(f_hl, rel=1e-9)
+    assert k_ == pytest.approx(f_hl, rel=1e-9)
+    assert i_max == pytest.approx(math.sqrt(1.1 / (1 + 0.1 * f_hl)), rel=1e-9)
+    # the winding end: the star winding's (LV unless a delta faces a star HV)
+    assert d.end == ("bus" if group == "YNd1" else "bus_to")
+    # the load against the rating: I_rms = I_1·√(1 + Σ 1/h²), I_rated = kVA/(√3·kV)
+    i1 = abs(st.branch_current("D1").phasors[0]) / math.sqrt(2)
+    kv = 13.8 if d.end == "bus" else 0.48
+    ratio = (0.48 / 13.8) if d.end == "bus" else 1.0  # line currents scale with the ratio
+    i_rms = i1 * ratio * math.sqrt(1 + float(np.sum(1 / h**2)))
+    assert d.i_rms_a == pytest.approx(i_rms, rel=1e-9)
+    assert d.i_rated_a == pytest.approx(2000 / (math.sqrt(3) * kv), rel=1e-12)
+    assert d.load_over_i_max == pytest.approx(d.load_pu / d.derating.I_max_pu, rel=1e-15)
+    # in per unit both windings carry the same spectrum (no zero sequence here)
+    other = item_derating(st, "T1", 0.1, end="bus" if d.end == "bus_to" else "bus_to")
+    f_other = other.derating.F_HL
+    assert f_other == pytest.approx(f_hl, rel=1e-9)
+
+
+def test_study_transformer_with_triplens_uses_the_star_winding():
+    """A grounded-star converter with a 3rd harmonic behind a Dyn11: the triplen current
+    circulates in the delta, so the HV line current lacks it and is refused as a winding
+    current; the LV star end gives F_HL of the injected spectrum (closed form)."""
+    from xlfuncs.power import harmonic_study
+    from xlfuncs.studies import item_derating
+
+    spectra = [["spectrum", "order", "pct", "phase_deg"], ["S", 3, 50, 0], ["S", 5, 20, 0]]
+    eq = _plant("Dyn11", {"spectrum": "S", "connection": "YN"})
+    eq[0].append("note")
+    for r in eq[1:]:
+        r.append(None)
+    st = harmonic_study(eq, spectra, OPTS)
+    d = item_derating(st, "T1", 0.08, 0.2)
+    r = np.array([1.0, 0.5, 0.2])
+    h = np.array([1.0, 3.0, 5.0])
+    f_hl = d.derating.F_HL
+    assert f_hl == pytest.approx(float(np.sum(r**2 * h**2) / np.sum(r**2)), rel=1e-9)
+    with pytest.raises(InputError, match="delta"):
+        item_derating(st, "T1", 0.08, end="bus")
+
+
+def test_study_transformer_worksheet_function_and_refusals():
+    from xlfuncs.power import harmonic_study
+    from xlfuncs.studies import item_derating
+
+    eq = _plant("Dyn11")
+    out = FUNCTIONS["CKT_ITEM_XFMR_DERATE"].call(eq, None, "T1", 0.1, OPTS, 0.2)
+    ref = item_derating(harmonic_study(eq, None, OPTS), "T1", 0.1, 0.2).rows()
+    assert [r[0] for r in out[:5]] == ["quantity", "F_HL", "F_HL_STR", "K_factor", "I_max_pu"]
+    assert [r[0] for r in out[-5:]] == [
+        "I_rms_a",
+        "I_rated_a",
+        "load_pu",
+        "load_over_I_max",
+        "basis",
+    ]
+    for a, b in zip(out[1:-1], ref[1:-1], strict=True):
+        assert a[1] == pytest.approx(b[1], rel=1e-12) if b[1] != "" else a[1] == ""
+    bad = FUNCTIONS["CKT_ITEM_XFMR_DERATE"].call(eq, None, "D1", 0.1, OPTS)
+    assert (
+        bad == "ERROR: argument, column item: 'D1' — 'D1' is a converter; expected a transformer"
+    )
+    bad = FUNCTIONS["CKT_ITEM_XFMR_DERATE"].call(eq, None, "T1", "#N/A", OPTS)
+    assert bad.startswith("ERROR: argument, column p_ec_pu: '#N/A'")
+
+
+def test_study_derating_through_the_xlwings_call_path():
+    """An Excel error in an optional argument is refused, never read as an omitted one."""
+    from xlwings_harness import COM_ERRORS, MISSING, call, xlwings_udfs
+
+    eq = tuple(tuple(c for c in r) for r in _plant("Dyn11"))
+    opts = (("fundamental_hz", 60.0),)
+    with xlwings_udfs() as udf:
+        ok = call(udf, "CKT_ITEM_XFMR_DERATE", eq, MISSING, "T1", 0.1, opts, MISSING, MISSING)
+        bad = call(udf, "CKT_ITEM_XFMR_DERATE", eq, MISSING, "T1", 0.1, opts, COM_ERRORS["#N/A"])
+        end = call(
+            udf, "CKT_ITEM_XFMR_DERATE", eq, MISSING, "T1", 0.1, opts, MISSING, COM_ERRORS["#REF!"]
+        )
+    assert ok[1][0] == "F_HL" and isinstance(ok[1][1], float)
+    assert bad == [["ERROR: argument, column p_osl_pu: '#N/A' — the cell holds an Excel error"]]
+    assert end[0][0].startswith("ERROR: argument, column winding_end: '#REF!'")

@@ -4,7 +4,11 @@ from __future__ import annotations
 
 import hashlib
 import math
+import os
 import re
+import subprocess
+import sys
+import tempfile
 import zipfile
 
 import openpyxl
@@ -51,6 +55,7 @@ def test_values_spills_and_errors(book, tmp_path):
     assert ws["M7"].value.startswith("ERROR: argument, column target: 'nowhere'")
     assert ws["E2"].value == "3k"  # the --set input is written too
     assert rep.spills == 1 and "Net!P1: #SPILL!" in rep.errors
+    assert len(rep.errors) == 4 and rep.errors[-1].startswith("Net!M7: ERROR: argument")
 
 
 def test_everything_else_is_preserved(book, tmp_path):
@@ -59,8 +64,13 @@ def test_everything_else_is_preserved(book, tmp_path):
     zin, zout = zipfile.ZipFile(book), zipfile.ZipFile(out)
     assert sorted(zin.namelist()) == sorted(zout.namelist())
     for name in zin.namelist():
-        if name != "xl/worksheets/sheet1.xml":  # styles, chart, drawing, names, metadata…
-            assert zin.read(name) == zout.read(name), name
+        if name not in ("xl/worksheets/sheet1.xml", "xl/workbook.xml"):
+            assert zin.read(name) == zout.read(name), name  # styles, chart, drawing, metadata…
+    # the workbook part differs only in <calcPr>: no full recalculation forced on load
+    calc = re.compile(rb"<calcPr\b[^>]*/>")
+    wb_in, wb_out = zin.read("xl/workbook.xml"), zout.read("xl/workbook.xml")
+    assert calc.sub(b"", wb_in) == calc.sub(b"", wb_out)
+    assert b'fullCalcOnLoad="1"' in wb_in and b"fullCalcOnLoad" not in wb_out
     wb = openpyxl.load_workbook(out)
     ws = wb["Net"]
     assert ws["A1"].font.b and ws["M1"].number_format == "0.000"
@@ -119,11 +129,19 @@ def test_refuses_to_overwrite_the_input(book):
 @pytest.mark.parametrize(
     ("sets", "message"),
     [
-        ({"nope": 1.0}, "'nope' is neither a defined name nor a Sheet!A1 address"),
+        ({"nope": 1.0}, "'nope' is neither a defined name nor a Sheet!A1 address; inputs: "
+                        "R1_value, Vdc"),
+        ({"r1_valu": 1.0}, "'r1_valu' is neither a defined name nor a Sheet!A1 address; "
+                           "did you mean 'R1_value'? inputs: R1_value, Vdc"),
         ({"Net!M1": 1.0}, "holds a formula; set input cells only"),
-        ({"Ghost!A1": 1.0}, "no sheet named 'Ghost'"),
+        ({"Ghost!A1": 1.0}, "no sheet named 'Ghost' (in 'Ghost!A1'); sheets: Net"),
+        ({"nett!A1": 1.0}, "no sheet named 'nett' (in 'nett!A1'); did you mean 'Net'? sheets: Net"),
+        ({"Net!A0": 1.0}, "'Net!A0' is outside the sheet (rows 1…1048576, columns A…XFD)"),
+        ({"Net!A99999999": 1.0}, "'Net!A99999999' is outside the sheet"),
+        ({"Net!XFE1": 1.0}, "'Net!XFE1' is outside the sheet"),
+        ({"Net!ZZZZ1": 1.0}, "'Net!ZZZZ1' is outside the sheet"),
     ],
-)
+)  # fmt: skip
 def test_bad_set_targets(book, tmp_path, sets, message):
     with pytest.raises(WorkbookError, match=re.escape(message)):
         recalc(book, tmp_path / "o.xlsx", sets)
@@ -131,12 +149,96 @@ def test_bad_set_targets(book, tmp_path, sets, message):
 
 def test_cli_recalc(book, tmp_path, capsys):
     out = tmp_path / "cli.xlsx"
+    # written, but its formula cells hold (deliberate) errors: exit status 1
     assert (
-        main(["recalc", str(book), "-o", str(out), "--set", "Vdc=20", "--set", "Net!F12=4"]) == 0
+        main(["recalc", str(book), "-o", str(out), "--set", "Vdc=20", "--set", "Net!F12=4"]) == 1
     )
     text = capsys.readouterr().out
     assert "recalculated 9 formulas (1 spilling)" in text and str(out) in text
+    assert "4 formula cells hold errors: Net!P1: #SPILL!, Net!M5: #DIV/0!" in text
     ws = openpyxl.load_workbook(out, data_only=True)["Net"]
     assert ws["I2"].value == pytest.approx(10.0) and ws["I3"].value == pytest.approx(2.0)
     assert main(["recalc", str(book), "--set", "oops"]) == 2
     assert "expected NAME=VALUE" in capsys.readouterr().err
+
+
+def test_exit_status_zero_only_when_every_formula_computes(tmp_path, capsys):
+    from books import clean_divider_book
+
+    clean = clean_divider_book(tmp_path / "c.xlsx")
+    assert main(["recalc", str(clean), "-o", str(tmp_path / "c_out.xlsx")]) == 0
+    assert "formula cells hold errors" not in capsys.readouterr().out
+    # an input the book's formulas cannot use (no validation on it): errors, exit 1
+    assert main(["recalc", str(clean), "-o", str(tmp_path / "x.xlsx"), "--set", "Net!F12=x"]) == 1
+    assert "2 formula cells hold errors: Net!M1: ERROR: sources row 3" in capsys.readouterr().out
+
+
+def _one_line(capsys, code, args, message):
+    assert main(args) == code
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and err.startswith("xlfuncs: error: ") and message in err, err
+
+
+def test_output_problems_are_one_line(book, tmp_path, capsys, monkeypatch):
+    (tmp_path / "a_file").write_text("x")
+    (tmp_path / "a_dir").mkdir()
+    for out, message in (
+        (tmp_path / "a_dir", "is a directory; give a file name for the output"),
+        (tmp_path / "a_file" / "o.xlsx", "is a file, not a directory"),
+        (tmp_path / "a_file" / "deeper" / "o.xlsx", "is a file, not a directory"),
+    ):
+        _one_line(capsys, 2, ["recalc", str(book), "-o", str(out)], message)
+    if os.geteuid() == 0:  # permissions do not stop root: the temporary file is refused
+        real = tempfile.mkstemp
+
+        def refuse(*a, **k):
+            if k.get("dir") == tmp_path / "ro":
+                raise PermissionError(13, "Permission denied")
+            return real(*a, **k)
+
+        monkeypatch.setattr(tempfile, "mkstemp", refuse)
+        (tmp_path / "ro").mkdir()
+    else:
+        (tmp_path / "ro").mkdir()
+        (tmp_path / "ro").chmod(0o555)
+    _one_line(
+        capsys,
+        2,
+        ["recalc", str(book), "-o", str(tmp_path / "ro" / "o.xlsx")],
+        "cannot write: Permission denied (no permission to write there; choose another place)",
+    )
+    assert list((tmp_path / "ro").iterdir()) == []
+
+
+def test_full_disk_leaves_nothing_behind(book, tmp_path):
+    # RLIMIT_FSIZE: no file may grow beyond 4 KiB, as on a full disk
+    out = tmp_path / "full" / "o.xlsx"
+    code = (
+        "import resource, sys; resource.setrlimit(resource.RLIMIT_FSIZE, (4096, 4096)); "
+        "from xlfuncs.cli import main; sys.exit(main(sys.argv[1:]))"
+    )
+    env = dict(os.environ, PYTHONWARNINGS="ignore")
+    r = subprocess.run(
+        [sys.executable, "-c", code, "recalc", str(book), "-o", str(out)],
+        capture_output=True,
+        text=True,
+        env=env,
+    )
+    assert r.returncode == 2 and r.stderr.count("\n") == 1, r.stderr
+    assert r.stderr == (
+        f"xlfuncs: error: {out}: cannot write: File too large (the disk is full or a "
+        "file-size limit was reached; free space and run again)\n"
+    )
+    assert list(out.parent.iterdir()) == []  # no temporary file left
+
+
+def test_cached_values_survive_opening(book, tmp_path):
+    # a spreadsheet program recalculates everything on load when asked (fullCalcOnLoad) or
+    # when calcId is below its engine's ([MS-XLS] 2.4.215; 145621 is Excel 2010's, as its
+    # documentation states): the copy asks for neither, so CKT_ values stay visible
+    out = tmp_path / "o.xlsx"
+    recalc(book, out)
+    wb = zipfile.ZipFile(out).read("xl/workbook.xml").decode()
+    (calc,) = re.findall(r"<calcPr\b[^>]*/>", wb)
+    assert "fullCalcOnLoad" not in calc
+    assert int(re.search(r'calcId="(\d+)"', calc).group(1)) > 145621

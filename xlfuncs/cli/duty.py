@@ -1,4 +1,6 @@
-"""``xlfuncs duty powers | xfmr | filter | cap-step | cable``: equipment-duty figures."""
+"""``xlfuncs duty powers | xfmr | filter | cap-step | cable | item``: equipment-duty figures,
+from the core tables, from plain spectra and ratings, or for an item of the equipment-table
+study."""
 
 from __future__ import annotations
 
@@ -42,9 +44,7 @@ def register(sub: Any) -> None:
     x = dsub.add_parser(
         "xfmr", help="transformer derating for harmonic current (IEEE C57.110, K-factor)"
     )
-    x.add_argument(
-        "spectrum", help="CSV with header order,pct (%% of I1; order 1 = 100), e.g. load.csv"
-    )
+    _spectrum_arg(x)
     x.add_argument(
         "--p-ec",
         type=float,
@@ -142,32 +142,98 @@ def register(sub: Any) -> None:
     k = dsub.add_parser(
         "cable", help="cable AC resistance at harmonics (IEC 60287-1-1) and harmonic loss ratio"
     )
-    k.add_argument(
+    _spectrum_arg(k)
+    k.add_argument("--f1", type=float, required=True, help="fundamental, Hz (e.g. 50)")
+    _conductor_args(k, required=True)
+    k.set_defaults(run=_cable)
+
+    i = dsub.add_parser(
+        "item",
+        help="duty of an item of the three-phase equipment study: IEEE 1459 powers, and by "
+        "kind transformer derating, capacitor or filter rating, cable loss",
+    )
+    i.add_argument("equipment", help="equipment table (CSV, header row first)")
+    i.add_argument("--spectra", help="spectra table (CSV: spectrum,order,pct,phase_deg)")
+    i.add_argument(
+        "--options", help="options table (CSV: key,value; fundamental_hz required, max_order)"
+    )
+    i.add_argument("--item", required=True, help="item name (e.g. --item T1)")
+    i.add_argument(
+        "--end", help="bus (default) or bus_to: the end of a transformer or cable for the powers"
+    )
+    i.add_argument(
+        "--wiring", help="3ph4w or 3ph3w for the powers (default from the item's connection)"
+    )
+    i.add_argument(
+        "--p-ec",
+        type=float,
+        help="transformer: rated winding eddy loss, pu of rated I²R (e.g. --p-ec 0.08)",
+    )
+    i.add_argument(
+        "--p-osl", type=float, help="transformer: rated other stray loss, pu (e.g. --p-osl 0.2)"
+    )
+    i.add_argument(
+        "--winding-end",
+        help="transformer: bus or bus_to, the end whose line current is the winding current "
+        "(default the star winding's)",
+    )
+    _conductor_args(i, required=False)
+    i.set_defaults(run=_item)
+
+
+def _spectrum_arg(parser: Any) -> None:
+    parser.add_argument(
         "spectrum", help="CSV with header order,pct (%% of I1; order 1 = 100), e.g. load.csv"
     )
-    k.add_argument(
+
+
+def _conductor_args(parser: Any, required: bool) -> None:
+    """The conductor of the IEC 60287-1-1 AC resistance (``duty cable``, ``duty item``)."""
+    parser.add_argument(
         "--r-dc",
         type=float,
-        required=True,
+        required=required,
         help="DC resistance at operating temperature, ohm/km (e.g. --r-dc 0.0967)",
     )
-    k.add_argument("--f1", type=float, required=True, help="fundamental, Hz (e.g. 50)")
-    k.add_argument("--k-s", type=float, required=True, help="skin coefficient (e.g. 1)")
-    k.add_argument("--k-p", type=float, required=True, help="proximity coefficient (e.g. 1)")
-    k.add_argument(
+    parser.add_argument("--k-s", type=float, required=required, help="skin coefficient (e.g. 1)")
+    parser.add_argument(
+        "--k-p", type=float, required=required, help="proximity coefficient (e.g. 1)"
+    )
+    parser.add_argument(
         "--arrangement",
-        required=True,
+        required=required,
         choices=["none", "2core", "3core", "3sector"],
         help="proximity arrangement (e.g. 3core)",
     )
-    k.add_argument("--d-c", type=float, help="conductor diameter, mm (e.g. 18)")
-    k.add_argument("--s", type=float, help="distance between conductor axes, mm (e.g. 24)")
-    k.add_argument(
+    parser.add_argument("--d-c", type=float, help="conductor diameter, mm (e.g. 18)")
+    parser.add_argument("--s", type=float, help="distance between conductor axes, mm (e.g. 24)")
+    parser.add_argument(
         "--extrapolate",
         action="store_true",
         help="continue the proximity factor beyond x_p = 2.8 (an approximation, stated)",
     )
-    k.set_defaults(run=_cable)
+
+
+def _conductor(args: argparse.Namespace) -> Any:
+    from ..studies.cables import Conductor
+
+    return Conductor(
+        args.r_dc, args.k_s, args.k_p, args.arrangement, args.d_c, args.s, args.extrapolate
+    )
+
+
+def _print_blocks(blocks: list[tuple[str, list[list[Any]], bool]], caution: bool = True) -> None:
+    """Titled tables, a blank line between them; a table whose last row is its basis
+    prints that row as a ``basis:`` line."""
+    for k, (title, rows, has_basis) in enumerate(blocks):
+        if k:
+            print()
+        print(title)
+        print(format_table(rows[:-1] if has_basis else rows))
+        if has_basis:
+            print(f"basis: {rows[-1][1]}")
+    if caution:
+        print(CAUTION)
 
 
 def _powers(args: argparse.Namespace) -> int:
@@ -177,10 +243,8 @@ def _powers(args: argparse.Namespace) -> int:
     opts = read_csv_table(args.options) if args.options else None
     sol = solve(read_csv_table(args.parts), read_csv_table(args.sources), opts)
     q = port_powers(sol, part=args.part, wiring=args.wiring)
-    rows = q.rows()
-    print(f"Power quantities of {args.part!r} (IEEE Std 1459-2010)")
-    print(format_table(rows[:-1]))
-    print(f"basis: {rows[-1][1]}")
+    title = f"Power quantities of {args.part!r} (IEEE Std 1459-2010)"
+    _print_blocks([(title, q.rows(), True)], caution=False)
     return 0
 
 
@@ -189,10 +253,7 @@ def _xfmr(args: argparse.Namespace) -> int:
 
     orders, pct = read_harmonic_spectrum(read_csv_table(args.spectrum), "spectrum", 1.0)
     rows = transformer_derating(orders, pct, args.p_ec, args.p_osl).rows()
-    print("Transformer derating for harmonic load current")
-    print(format_table(rows[:-1]))
-    print(f"basis: {rows[-1][1]}")
-    print(CAUTION)
+    _print_blocks([("Transformer derating for harmonic load current", rows, True)])
     return 0
 
 
@@ -242,14 +303,7 @@ def _filter(args: argparse.Namespace) -> int:
             args.dt_k,
         )
         blocks.append(("Tuning drift", dr.rows(), False))
-    for k, (title, rows, has_basis) in enumerate(blocks):
-        if k:
-            print()
-        print(title)
-        print(format_table(rows[:-1] if has_basis else rows))
-        if has_basis:
-            print(f"basis: {rows[-1][1]}")
-    print(CAUTION)
+    _print_blocks(blocks)
     return 0
 
 
@@ -284,11 +338,8 @@ def _cap_step(args: argparse.Namespace) -> int:
         args.q,
         relative=relative,
     )
-    rows = res.rows()
-    print("Capacitor sizes and their parallel resonance with the supply")
-    print(format_table(rows[:-1]))
-    print(f"basis: {rows[-1][1]}")
-    print(CAUTION)
+    title = "Capacitor sizes and their parallel resonance with the supply"
+    _print_blocks([(title, res.rows(), True)])
     return 0
 
 
@@ -297,18 +348,7 @@ def _cable(args: argparse.Namespace) -> int:
     from ..studies.transformer import read_harmonic_spectrum
 
     orders, pct = read_harmonic_spectrum(read_csv_table(args.spectrum), "spectrum", 0.0)
-    loss = cable_harmonic_loss(
-        orders,
-        pct,
-        args.r_dc,
-        args.f1,
-        args.k_s,
-        args.k_p,
-        args.arrangement,
-        args.d_c,
-        args.s,
-        args.extrapolate,
-    )
+    loss = cable_harmonic_loss(_conductor(args), orders, pct, args.f1)
     r = loss.resistance
     table: list[list[Any]] = [["order", "freq_hz", "y_s", "y_p", "rac_ohm_km", "rac_over_rdc"]]
     for k in range(1, r.freqs_hz.size):
@@ -322,11 +362,66 @@ def _cable(args: argparse.Namespace) -> int:
                 float(r.ratio[k]),
             ]
         )
-    print("Conductor AC resistance per order (IEC 60287-1-1)")
-    print(format_table(table))
-    print()
-    rows = loss.rows()
-    print(format_table(rows[:-1]))
-    print(f"basis: {rows[-1][1]}")
-    print(CAUTION)
+    title = "Conductor AC resistance per order (IEC 60287-1-1)"
+    _print_blocks([(title, table, False), ("Harmonic loss of the conductor", loss.rows(), True)])
+    return 0
+
+
+def _item(args: argparse.Namespace) -> int:
+    from ..power import CAUTION as STUDY_CAUTION
+    from ..power import harmonic_study
+    from ..studies.cables import item_cable_loss
+    from ..studies.filters import item_filter_rating
+    from ..studies.powers import item_powers
+    from ..studies.transformer import item_derating
+
+    st = harmonic_study(
+        read_csv_table(args.equipment),
+        read_csv_table(args.spectra) if args.spectra else None,
+        read_csv_table(args.options) if args.options else None,
+    )
+    it = st.equipment.item(args.item)
+    cable = _pair(args, ("r_dc", "k_s", "k_p", "arrangement"), "the cable loss")
+    if cable and it.kind != "cable":
+        raise InputError("argument", None, "--r-dc", args.r_dc, f"{it.name!r} is not a cable")
+    if args.p_ec is None and (args.p_osl is not None or args.winding_end is not None):
+        raise InputError("argument", None, "--p-ec", expected="missing: the derating needs it")
+    if args.p_ec is not None and it.kind != "transformer":
+        raise InputError(
+            "argument", None, "--p-ec", args.p_ec, f"{it.name!r} is not a transformer"
+        )
+    q = item_powers(st, it.name, args.end, args.wiring)
+    blocks: list[tuple[str, list[list[Any]], bool]] = [
+        (f"Power quantities of {it.kind} {it.name!r} (IEEE Std 1459-2010)", q.rows(), True)
+    ]
+    note = ""
+    if it.kind == "transformer":
+        if args.p_ec is None:
+            note = "give --p-ec (and --p-osl) for the transformer derating"
+        else:
+            d = item_derating(st, it.name, args.p_ec, args.p_osl, args.winding_end)
+            blocks.append(("Transformer derating for its harmonic current", d.rows(), True))
+    elif it.kind == "capacitor":
+        blocks.append(
+            (
+                "Capacitor duty of one phase unit (IEEE Std 18)",
+                st.capacitor_duty(it.name).table(),
+                False,
+            )
+        )
+    elif it.kind == "filter":
+        rt = item_filter_rating(st, it.name).rows()
+        blocks.append(
+            ("Filter rating: capacitor against IEEE Std 18, reactor and losses", rt, True)
+        )
+    elif it.kind == "cable":
+        if cable:
+            loss = item_cable_loss(st, it.name, _conductor(args))
+            blocks.append(("Conductor loss at harmonics (IEC 60287-1-1)", loss.rows(), True))
+        else:
+            note = "give --r-dc, --k-s, --k-p and --arrangement for the cable loss"
+    _print_blocks(blocks, caution=False)
+    if note:
+        print(note)
+    print(STUDY_CAUTION)
     return 0

@@ -1,5 +1,6 @@
 """Equipment-duty worksheet functions: IEEE 1459 powers, transformer derating, filter
-design and rating, capacitor steps, cable losses at harmonics."""
+design and rating, capacitor steps, cable losses at harmonics — for a part of the core
+tables, for plain spectra and ratings, and for an item of the equipment-table study."""
 
 from __future__ import annotations
 
@@ -7,147 +8,163 @@ import math
 from typing import Any
 
 from ..errors import InputError
+from ..power.tables import EXCEL_ERRORS
 from . import studies as _studies  # noqa: F401  (describes the shared `spectrum` argument)
 from .arguments import freeze, name_arg, num_arg, points_arg
 from .cache import solution
+from .power import study_of  # (also describes equipment, spectra, item, study_options, branch_end)
 from .registry import register_args, sheet_function
 
 CAUTION = "Screening calculation: the makers, the utility and a licensed engineer decide."
 
 # every argument is read with err_to_str: an Excel error cell reaches us as its text
 # ("#N/A") and is refused, instead of arriving as None and reading as a blank cell
+CELL: dict[str, Any] = {"err_to_str": True}
+RANGE: dict[str, Any] = {"ndim": 2, "err_to_str": True}
 register_args(
     {
         "wiring": (
             "Optional: 1ph (default, a one-phase port), or 3ph4w / 3ph3w for the part of a "
             "per-phase model of a balanced three-phase four-/three-wire item (x3, effective "
             "V and I of IEEE 1459).",
-            {"err_to_str": True},
+            CELL,
         ),
         "p_ec_pu": (
             "Rated winding eddy-current loss in per unit of the rated I²R loss, e.g. 0.08 "
             "(maker or test report; at the hot spot for the hot-spot limit).",
-            {"err_to_str": True},
+            CELL,
         ),
         "p_osl_pu": (
             "Optional rated other stray loss in per unit of the rated I²R loss, e.g. 0.2; "
             "adds the load-loss rows.",
-            {"err_to_str": True},
+            CELL,
         ),
         "filter_kvar": (
             "Reactive power the filter delivers at the fundamental at bus_v, kvar (three-phase "
             "total when phases = 3), e.g. 300.",
-            {"err_to_str": True},
+            CELL,
         ),
         "bus_v": (
             "Bus voltage at the fundamental, V rms (line-to-line when phases = 3), e.g. 480.",
-            {"err_to_str": True},
+            CELL,
         ),
         "phases": (
             "1: single-phase values; 3: three-phase kvar, line-to-line volts and three-phase "
             "short-circuit MVA (C, L, R per phase of the star equivalent).",
-            {"err_to_str": True},
+            CELL,
         ),
         "tuned_order": (
             "Tuned order of the filter, h > 1, e.g. 4.7 (a few percent below the harmonic it "
             "serves); for a high-pass filter its corner order.",
-            {"err_to_str": True},
+            CELL,
         ),
         "q_factor": (
             "Quality factor: single-tuned X_n/R (typically 20-100), high-pass R/X_n "
             "(typically 0.5-2), X_n = sqrt(L/C).",
-            {"err_to_str": True},
+            CELL,
         ),
         "filter_type": (
             "tuned (single-tuned), highpass, or capacitor (no reactor).",
-            {"err_to_str": True},
+            CELL,
         ),
         "ssc_mva": (
             "Short-circuit power at the bus, MVA (three-phase when phases = 3), e.g. 30.",
-            {"err_to_str": True},
+            CELL,
         ),
-        "xr_ratio": ("Supply X/R ratio at the fundamental, e.g. 10.", {"err_to_str": True}),
+        "xr_ratio": ("Supply X/R ratio at the fundamental, e.g. 10.", CELL),
         "harmonics": (
             "Range order | amps with its header row: RMS (line) current the filter absorbs at "
             "each harmonic order > 1, e.g. 5 | 120.",
-            {"ndim": 2, "err_to_str": True},
+            RANGE,
         ),
         "cap_kvar": (
             "Capacitor nameplate kvar (three-phase when phases = 3), e.g. 400.",
-            {"err_to_str": True},
+            CELL,
         ),
         "cap_v": (
             "Capacitor rated voltage, V rms (line-to-line when phases = 3), e.g. 600.",
-            {"err_to_str": True},
+            CELL,
         ),
         "c_tol_minus": (
             "Capacitance tolerance below nominal, fraction >= 0, e.g. 0.",
-            {"err_to_str": True},
+            CELL,
         ),
         "c_tol_plus": (
             "Capacitance tolerance above nominal, fraction >= 0, e.g. 0.10.",
-            {"err_to_str": True},
+            CELL,
         ),
-        "l_tol": ("Reactor inductance tolerance, +/- fraction, e.g. 0.03.", {"err_to_str": True}),
+        "l_tol": ("Reactor inductance tolerance, +/- fraction, e.g. 0.03.", CELL),
         "c_tempco_ppm": (
             "Optional capacitance temperature coefficient, ppm/K (maker's data), e.g. -300.",
-            {"err_to_str": True},
+            CELL,
         ),
         "dt_k": (
             "Optional +/- temperature excursion from the rating temperature of C, K, e.g. 30.",
-            {"err_to_str": True},
+            CELL,
         ),
         "step_kvar": (
             "kvar of one capacitor step (three-phase when phases = 3), e.g. 50.",
-            {"err_to_str": True},
+            CELL,
         ),
-        "max_steps": ("Number of steps to try, 1 to 100, e.g. 8.", {"err_to_str": True}),
+        "max_steps": ("Number of steps to try, 1 to 100, e.g. 8.", CELL),
         "injected": (
             "Injected harmonic orders (a range or one cell), e.g. 5, 7, 11, 13.",
-            {"ndim": 2, "err_to_str": True},
+            RANGE,
         ),
         "margin": (
             "Least distance of the parallel resonance from every injected order: orders "
             "(e.g. 0.3) or relative with % (e.g. 10%). Common practice, no standard fixes it.",
-            {"err_to_str": True},
+            CELL,
         ),
         "r_dc_ohm_km": (
             "Conductor DC resistance at the operating temperature, ohm/km, e.g. 0.0967.",
-            {"err_to_str": True},
+            CELL,
         ),
         "orders": (
             "Harmonic orders (a range or one cell), each >= 0 (0 = DC).",
-            {"ndim": 2, "err_to_str": True},
+            RANGE,
         ),
         "k_s": (
             "Skin-effect coefficient k_s of the conductor construction (IEC 60287-1-1 table; "
             "1 for round stranded).",
-            {"err_to_str": True},
+            CELL,
         ),
         "k_p": (
             "Proximity-effect coefficient k_p (IEC 60287-1-1 table; e.g. 1 with extruded "
             "insulation, 0.8 dried and impregnated).",
-            {"err_to_str": True},
+            CELL,
         ),
         "arrangement": (
             "Proximity: none, 2core (two-core or two single-core), 3core (three-core or three "
             "single-core) or 3sector (three-core, sector-shaped conductors).",
-            {"err_to_str": True},
+            CELL,
         ),
         "d_c_mm": (
             "Optional conductor diameter, mm (d_x for sector conductors); needed unless "
             "arrangement is none.",
-            {"err_to_str": True},
+            CELL,
         ),
         "s_mm": (
             "Optional distance between conductor axes, mm (d_x + t for sector conductors); "
             "needed unless arrangement is none.",
-            {"err_to_str": True},
+            CELL,
+        ),
+        "item_wiring": (
+            "Optional: 3ph4w or 3ph3w. Default from the item: 3ph4w where it offers a "
+            "zero-sequence path at that end (a grounded star; a cable carrying zero-sequence "
+            "current), else 3ph3w; the two agree without zero-sequence components.",
+            CELL,
+        ),
+        "winding_end": (
+            "Optional: bus (HV) or bus_to (LV), the end whose line current is taken as the "
+            "winding current; default the star winding's end (bus_to unless the LV winding is "
+            "a delta facing a star).",
+            CELL,
         ),
         "extrapolate": (
             "Optional TRUE: continue the proximity factor beyond x_p = 2.8 with the skin-effect "
             "branches (an approximation, stated); FALSE (default) refuses there.",
-            {"err_to_str": True},
+            CELL,
         ),
     }
 )
@@ -255,29 +272,35 @@ def CKT_XFMR_DERATE(spectrum, p_ec_pu, p_osl_pu=None):
 
 
 # ------------------------------------------------------------------------------ §3
-@sheet_function(
+def _sizing_function(name: str, ftype: str, summary: str, returns: str) -> Any:
+    """The worksheet sizing function of one filter type (one signature for every type)."""
+
+    def f(filter_kvar, bus_v, fundamental_hz, phases, tuned_order, q_factor):
+        return _design(
+            ftype, filter_kvar, bus_v, fundamental_hz, phases, tuned_order, q_factor
+        ).rows()
+
+    f.__name__ = f.__qualname__ = name
+    return sheet_function(summary, returns)(f)
+
+
+CKT_TUNED_FILTER = _sizing_function(
+    "CKT_TUNED_FILTER",
+    "tuned",
     "Single-tuned harmonic filter sized from its kvar at the fundamental, tuned order and "
     "quality factor: C, L, R and duty at f1 (spills).",
     "Header quantity | value | unit: tuned order and Hz, Q, X_C, X_L, R, X_n (ohm), C (F), "
     "L (H), fundamental current, capacitor voltage and voltage rise, kvar of the capacitor "
     "and delivered, loss at f1, basis. Exact at f1 with R included. " + CAUTION,
 )
-def CKT_TUNED_FILTER(filter_kvar, bus_v, fundamental_hz, phases, tuned_order, q_factor):
-    return _design(
-        "tuned", filter_kvar, bus_v, fundamental_hz, phases, tuned_order, q_factor
-    ).rows()
-
-
-@sheet_function(
+CKT_HIGHPASS_FILTER = _sizing_function(
+    "CKT_HIGHPASS_FILTER",
+    "highpass",
     "Second-order high-pass (damped) filter, C in series with L parallel R, sized from its "
     "kvar, corner order and Q = R/X_n (spills).",
     "Header quantity | value | unit, as CKT_TUNED_FILTER; q_factor = R/sqrt(L/C) and the "
     "tuned order is the corner where X_L = X_C. " + CAUTION,
 )
-def CKT_HIGHPASS_FILTER(filter_kvar, bus_v, fundamental_hz, phases, tuned_order, q_factor):
-    return _design(
-        "highpass", filter_kvar, bus_v, fundamental_hz, phases, tuned_order, q_factor
-    ).rows()
 
 
 @sheet_function(
@@ -411,10 +434,26 @@ def CKT_CAP_STEP(
 
 
 # ------------------------------------------------------------------------------ §4
-def _cable_geometry(d_c_mm: Any, s_mm: Any) -> tuple[float | None, float | None]:
-    d = None if _blank(d_c_mm) else num_arg(d_c_mm, "d_c_mm")
-    s = None if _blank(s_mm) else num_arg(s_mm, "s_mm")
-    return d, s
+def _conductor(
+    r_dc_ohm_km: Any,
+    k_s: Any,
+    k_p: Any,
+    arrangement: Any,
+    d_c_mm: Any,
+    s_mm: Any,
+    extrapolate: Any,
+) -> Any:
+    from ..studies.cables import Conductor
+
+    return Conductor(
+        num_arg(r_dc_ohm_km, "r_dc_ohm_km"),
+        num_arg(k_s, "k_s"),
+        num_arg(k_p, "k_p"),
+        arrangement,
+        None if _blank(d_c_mm) else num_arg(d_c_mm, "d_c_mm"),
+        None if _blank(s_mm) else num_arg(s_mm, "s_mm"),
+        _flag(extrapolate, "extrapolate"),
+    )
 
 
 @sheet_function(
@@ -442,17 +481,8 @@ def CKT_CABLE_RAC(
         if v < 0:
             raise InputError("orders", k, None, v, "expected an order ≥ 0")
     f1 = num_arg(fundamental_hz, "fundamental_hz")
-    d, s = _cable_geometry(d_c_mm, s_mm)
-    res = cable_ac_resistance(
-        num_arg(r_dc_ohm_km, "r_dc_ohm_km"),
-        [v * f1 for v in h],
-        num_arg(k_s, "k_s"),
-        num_arg(k_p, "k_p"),
-        arrangement,
-        d,
-        s,
-        _flag(extrapolate, "extrapolate"),
-    )
+    conductor = _conductor(r_dc_ohm_km, k_s, k_p, arrangement, d_c_mm, s_mm, extrapolate)
+    res = cable_ac_resistance(conductor, [v * f1 for v in h])
     out: list[list[Any]] = [
         ["order", "freq_hz", "x_s", "y_s", "x_p", "y_p", "rac_ohm_km", "rac_over_rdc", "note"]
     ]
@@ -495,16 +525,113 @@ def CKT_CABLE_LOSS(
     from ..studies.transformer import read_harmonic_spectrum
 
     orders, pct = read_harmonic_spectrum(spectrum, "spectrum", 0.0)
-    d, s = _cable_geometry(d_c_mm, s_mm)
+    conductor = _conductor(r_dc_ohm_km, k_s, k_p, arrangement, d_c_mm, s_mm, extrapolate)
     return cable_harmonic_loss(
-        orders,
-        pct,
-        num_arg(r_dc_ohm_km, "r_dc_ohm_km"),
-        num_arg(fundamental_hz, "fundamental_hz"),
-        num_arg(k_s, "k_s"),
-        num_arg(k_p, "k_p"),
-        arrangement,
-        d,
-        s,
-        _flag(extrapolate, "extrapolate"),
+        conductor, orders, pct, num_arg(fundamental_hz, "fundamental_hz")
     ).rows()
+
+
+# ------------------------------------------------------------------ items of a study
+def _text(value: Any, column: str) -> str:
+    text = name_arg(value, column)
+    if text.upper() in EXCEL_ERRORS:
+        raise InputError("argument", None, column, value, "the cell holds an Excel error")
+    return text
+
+
+def _item(value: Any) -> str:
+    return _text(value, "item")
+
+
+def _optional_text(value: Any, column: str) -> str | None:
+    return None if _blank(value) else _text(value, column)
+
+
+@sheet_function(
+    "IEEE 1459-2010 powers of a balanced three-phase item of the equipment-table study, at "
+    "one of its ends (spills).",
+    "Header quantity | value | unit; the rows of CKT_POWERS (P, P1, Q1, S1, S, SN, DI, DV, SH, "
+    "PF, PF1, THD_V, THD_I; three-phase totals, effective V and I), then V, I, f1_hz, basis. "
+    "Bus voltage and line current into the item over every studied order; absorbed powers.",
+    call_in_wizard=False,
+)
+def CKT_ITEM_POWERS(
+    equipment, spectra, item, study_options=None, branch_end=None, item_wiring=None
+):
+    from ..studies.powers import item_powers
+
+    st = study_of(equipment, spectra, study_options)
+    return item_powers(
+        st,
+        _item(item),
+        _optional_text(branch_end, "branch_end"),
+        _optional_text(item_wiring, "item_wiring"),
+    ).rows()
+
+
+@sheet_function(
+    "Transformer derating (IEEE C57.110) for the harmonic current the equipment-table study "
+    "puts through a transformer, with its load against the permissible current (spills).",
+    "Header quantity | value: the rows of CKT_XFMR_DERATE (F_HL, F_HL_STR, K_factor, I_max_pu, "
+    "…), then I_rms_a, I_rated_a, load_pu = I_rms/I_rated and load_over_I_max (at most 1 "
+    "passes), basis. Formulas from memory. " + CAUTION,
+    call_in_wizard=False,
+)
+def CKT_ITEM_XFMR_DERATE(
+    equipment, spectra, item, p_ec_pu, study_options=None, p_osl_pu=None, winding_end=None
+):
+    from ..studies.transformer import item_derating
+
+    st = study_of(equipment, spectra, study_options)
+    posl = None if _blank(p_osl_pu) else num_arg(p_osl_pu, "p_osl_pu")
+    return item_derating(
+        st,
+        _item(item),
+        num_arg(p_ec_pu, "p_ec_pu"),
+        posl,
+        _optional_text(winding_end, "winding_end"),
+    ).rows()
+
+
+@sheet_function(
+    "Rating of a filter item of the equipment-table study: capacitor duty against IEEE 18, "
+    "reactor current and voltage, losses, with the study's currents (spills).",
+    "Header quantity | value | rated | ratio | limit | result: one phase unit's capacitor rms "
+    "and peak voltage, rms current and kvar against its own rating (PASS/FAIL, IEEE Std 18 "
+    "limits), verdict, reactor rms, peak and fundamental current and rms voltage of one phase "
+    "unit, losses in R (three phases), basis. " + CAUTION,
+    call_in_wizard=False,
+)
+def CKT_ITEM_FILTER_RATING(equipment, spectra, item, study_options=None):
+    from ..studies.filters import item_filter_rating
+
+    st = study_of(equipment, spectra, study_options)
+    return item_filter_rating(st, _item(item)).rows()
+
+
+@sheet_function(
+    "Harmonic conductor loss of a cable item of the equipment-table study by the IEC 60287-1-1 "
+    "AC resistance, with the study's current (spills).",
+    "Header quantity | value: the rows of CKT_CABLE_LOSS (loss_ratio, derating, I1_max_pu, √h "
+    "law, R_ac at f1), then I_rms_a, I1_a (series current), loss_w and loss_fundamental_w "
+    "(three conductors over length_km), basis. Formulas from memory. " + CAUTION,
+    call_in_wizard=False,
+)
+def CKT_ITEM_CABLE_LOSS(
+    equipment,
+    spectra,
+    item,
+    r_dc_ohm_km,
+    k_s,
+    k_p,
+    arrangement,
+    study_options=None,
+    d_c_mm=None,
+    s_mm=None,
+    extrapolate=None,
+):
+    from ..studies.cables import item_cable_loss
+
+    st = study_of(equipment, spectra, study_options)
+    conductor = _conductor(r_dc_ohm_km, k_s, k_p, arrangement, d_c_mm, s_mm, extrapolate)
+    return item_cable_loss(st, _item(item), conductor).rows()

@@ -7,8 +7,11 @@ from .cables import (
     ARRANGEMENTS,
     CableLoss,
     CableResistance,
+    Conductor,
+    ItemCableLoss,
     cable_ac_resistance,
     cable_harmonic_loss,
+    item_cable_loss,
     skin_effect_factor,
 )
 from .capacitor import IEEE18_LIMITS, CapacitorDuty, capacitor_duty
@@ -25,6 +28,7 @@ from .filters import (
     filter_rating,
     filter_resonance,
     highpass_filter,
+    item_filter_rating,
     read_order_amps,
     tuned_filter,
     tuning_drift,
@@ -47,7 +51,14 @@ from .noise import (
     noise_rms,
 )
 from .poles import NaturalFrequency, network_poles, transfer_poles_zeros, transfer_zeros
-from .powers import POWER_ROWS, WIRINGS, PowerQuantities, port_powers, power_quantities
+from .powers import (
+    POWER_ROWS,
+    WIRINGS,
+    PowerQuantities,
+    item_powers,
+    port_powers,
+    power_quantities,
+)
 from .resonance import Resonance, Resonances, find_resonances, resonance_order_rule
 from .stability import (
     DampingDesign,
@@ -67,8 +78,10 @@ from .transfer import (
     two_port_impedances,
 )
 from .transformer import (
+    ItemDerating,
     TransformerDerating,
     harmonic_loss_factor,
+    item_derating,
     k_factor,
     read_harmonic_spectrum,
     transformer_derating,
@@ -85,6 +98,7 @@ __all__ = [
     "CableResistance",
     "CapacitorDuty",
     "CapacitorStep",
+    "Conductor",
     "CurrentCheck",
     "DampingDesign",
     "Detuning",
@@ -92,6 +106,8 @@ __all__ = [
     "FilterMargin",
     "FilterRating",
     "FrequencyResponse",
+    "ItemCableLoss",
+    "ItemDerating",
     "NaturalFrequency",
     "NoiseContribution",
     "NoiseResult",
@@ -125,6 +141,10 @@ __all__ = [
     "harmonic_loss_factor",
     "highpass_filter",
     "input_filter_margin",
+    "item_cable_loss",
+    "item_derating",
+    "item_filter_rating",
+    "item_powers",
     "k_factor",
     "negative_input_resistance",
     "network_poles",

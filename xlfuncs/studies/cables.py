@@ -49,14 +49,17 @@ from typing import Any
 import numpy as np
 
 from ..errors import InputError
-from .transformer import read_harmonic_spectrum
+from .transformer import read_harmonic_spectrum, study_item
 
 __all__ = [
     "ARRANGEMENTS",
     "CableLoss",
     "CableResistance",
+    "Conductor",
+    "ItemCableLoss",
     "cable_ac_resistance",
     "cable_harmonic_loss",
+    "item_cable_loss",
     "parse_arrangement",
     "read_harmonic_spectrum",
     "skin_effect_factor",
@@ -127,19 +130,11 @@ def _positive(value: Any, name: str, what: str) -> float:
     return float(value)
 
 
-def cable_ac_resistance(
-    r_dc_ohm_km: float,
-    freqs_hz: Any,
-    k_s: float,
-    k_p: float,
-    arrangement: str,
-    d_c_mm: float | None = None,
-    s_mm: float | None = None,
-    extrapolate: bool = False,
-) -> CableResistance:
-    """IEC 60287-1-1 AC resistance of a conductor at each of ``freqs_hz``.
+@dataclass(frozen=True)
+class Conductor:
+    """A conductor as the IEC 60287-1-1 AC resistance needs it (validated on creation).
 
-    Parameters
+    Attributes
     ----------
     r_dc_ohm_km : float
         DC resistance at the operating temperature, Ω/km (the formula's R' per metre is
@@ -153,42 +148,71 @@ def cable_ac_resistance(
     extrapolate : bool
         Continue the proximity factor beyond x_p = 2.8 with the skin-effect branches
         instead of refusing.
-
-    Examples
-    --------
-    f → 0 gives the DC resistance:
-
-    >>> r = cable_ac_resistance(0.0754, [0.0, 50.0], 1.0, 1.0, "none")
-    >>> float(r.ratio[0]), round(float(r.ratio[1]), 6)
-    (1.0, 1.014301)
     """
-    rdc = _positive(r_dc_ohm_km, "r_dc_ohm_km", "a DC resistance > 0 Ω/km")
-    ks = _positive(k_s, "k_s", "a skin-effect coefficient k_s > 0 (1 for round stranded)")
-    kp = _positive(k_p, "k_p", "a proximity coefficient k_p > 0")
-    arr = parse_arrangement(arrangement)
-    f = np.asarray(freqs_hz, dtype=float).reshape(-1)
-    if f.size == 0 or not np.all(np.isfinite(f)) or np.any(f < 0):
-        raise InputError("argument", None, "freqs_hz", None, "expected frequencies ≥ 0 Hz")
-    r_per_m = rdc / 1000.0
-    x_s = np.sqrt(_MU0_TERM * f / r_per_m * ks)
-    x_p = np.sqrt(_MU0_TERM * f / r_per_m * kp)
-    y_s = skin_effect_factor(x_s)
-    beyond = np.zeros(f.size, dtype=bool)
-    if arr == "none":
-        y_p = np.zeros_like(f)
-    else:
-        dc = _positive(d_c_mm, "d_c_mm", "the conductor diameter > 0 mm")
-        s = _positive(s_mm, "s_mm", "the distance between conductor axes > 0 mm")
+
+    r_dc_ohm_km: float
+    k_s: float
+    k_p: float
+    arrangement: str
+    d_c_mm: float | None = None
+    s_mm: float | None = None
+    extrapolate: bool = False
+
+    def __post_init__(self) -> None:
+        put = object.__setattr__
+        for name, what in (
+            ("r_dc_ohm_km", "a DC resistance > 0 Ω/km"),
+            ("k_s", "a skin-effect coefficient k_s > 0 (1 for round stranded)"),
+            ("k_p", "a proximity coefficient k_p > 0"),
+        ):
+            put(self, name, _positive(getattr(self, name), name, what))
+        if not isinstance(self.extrapolate, (bool, np.bool_)):
+            raise InputError(
+                "argument", None, "extrapolate", self.extrapolate, "expected TRUE or FALSE"
+            )
+        put(self, "arrangement", parse_arrangement(self.arrangement))
+        if self.arrangement == "none":
+            return
+        dc = _positive(self.d_c_mm, "d_c_mm", "the conductor diameter > 0 mm")
+        s = _positive(self.s_mm, "s_mm", "the distance between conductor axes > 0 mm")
         if s <= dc:
             raise InputError(
                 "argument",
                 None,
                 "s_mm",
-                s_mm,
-                f"expected an axis spacing larger than the conductor diameter {d_c_mm!r} mm",
+                self.s_mm,
+                f"expected an axis spacing larger than the conductor diameter {self.d_c_mm!r} mm",
             )
+        put(self, "d_c_mm", dc)
+        put(self, "s_mm", s)
+
+
+def cable_ac_resistance(conductor: Conductor, freqs_hz: Any) -> CableResistance:
+    """IEC 60287-1-1 AC resistance of ``conductor`` at each of ``freqs_hz`` (≥ 0 Hz).
+
+    Examples
+    --------
+    f → 0 gives the DC resistance:
+
+    >>> r = cable_ac_resistance(Conductor(0.0754, 1.0, 1.0, "none"), [0.0, 50.0])
+    >>> float(r.ratio[0]), round(float(r.ratio[1]), 6)
+    (1.0, 1.014301)
+    """
+    c = conductor
+    f = np.asarray(freqs_hz, dtype=float).reshape(-1)
+    if f.size == 0 or not np.all(np.isfinite(f)) or np.any(f < 0):
+        raise InputError("argument", None, "freqs_hz", None, "expected frequencies ≥ 0 Hz")
+    r_per_m = c.r_dc_ohm_km / 1000.0
+    x_s = np.sqrt(_MU0_TERM * f / r_per_m * c.k_s)
+    x_p = np.sqrt(_MU0_TERM * f / r_per_m * c.k_p)
+    y_s = skin_effect_factor(x_s)
+    beyond = np.zeros(f.size, dtype=bool)
+    if c.arrangement == "none":
+        y_p = np.zeros_like(f)
+    else:
+        assert c.d_c_mm is not None and c.s_mm is not None
         beyond = x_p > X_LIMIT_LOW
-        if beyond.any() and not extrapolate:
+        if beyond.any() and not c.extrapolate:
             k = int(np.argmax(beyond))
             raise InputError(
                 "argument",
@@ -201,14 +225,14 @@ def cable_ac_resistance(
             )
         x4 = x_p**4
         fx = np.where(beyond, skin_effect_factor(x_p), x4 / (192 + 0.8 * x4))
-        ratio2 = (dc / s) ** 2
-        if arr == "2core":
+        ratio2 = (c.d_c_mm / c.s_mm) ** 2
+        if c.arrangement == "2core":
             y_p = fx * ratio2 * 2.9
         else:
             y_p = fx * ratio2 * (0.312 * ratio2 + 1.18 / (fx + 0.27))
-            if arr == "3sector":
+            if c.arrangement == "3sector":
                 y_p = y_p * (2.0 / 3.0)
-    return CableResistance(f, x_s, y_s, x_p, y_p, rdc, arr, beyond)
+    return CableResistance(f, x_s, y_s, x_p, y_p, c.r_dc_ohm_km, c.arrangement, beyond)
 
 
 @dataclass(frozen=True)
@@ -255,26 +279,17 @@ class CableLoss:
 
 
 def cable_harmonic_loss(
-    orders: Any,
-    pct: Any,
-    r_dc_ohm_km: float,
-    fundamental_hz: float,
-    k_s: float,
-    k_p: float,
-    arrangement: str,
-    d_c_mm: float | None = None,
-    s_mm: float | None = None,
-    extrapolate: bool = False,
+    conductor: Conductor, orders: Any, pct: Any, fundamental_hz: float
 ) -> CableLoss:
     """Harmonic loss ratio Σ I_h²·R_ac(h) / (I_rms²·R_ac(1)) and the derating it implies.
 
     ``orders`` (≥ 0; 0 is DC, R = R_dc) and ``pct`` (% of I₁, the order-1 row 100)
-    describe the current; the other arguments are those of :func:`cable_ac_resistance`.
-    The √h-law figures use R(h) = R_ac(1)·√max(1, h) for comparison.
+    describe the current in ``conductor``. The √h-law figures use
+    R(h) = R_ac(1)·√max(1, h) for comparison.
 
     Examples
     --------
-    >>> c = cable_harmonic_loss([1, 5, 7], [100, 20, 14], 0.0754, 50, 1, 1, "none")
+    >>> c = cable_harmonic_loss(Conductor(0.0754, 1, 1, "none"), [1, 5, 7], [100, 20, 14], 50)
     >>> round(c.loss_ratio, 4), round(c.derating, 4)
     (1.0181, 0.9911)
     """
@@ -287,16 +302,7 @@ def cable_harmonic_loss(
         )
     if not (np.all(np.isfinite(h)) and np.all(np.isfinite(p))) or np.any(h < 0) or np.any(p < 0):
         raise InputError("argument", None, "spectrum", None, "expected orders ≥ 0 and pct ≥ 0")
-    res = cable_ac_resistance(
-        r_dc_ohm_km,
-        np.concatenate([[f1], h * f1]),
-        k_s,
-        k_p,
-        arrangement,
-        d_c_mm,
-        s_mm,
-        extrapolate,
-    )
+    res = cable_ac_resistance(conductor, np.concatenate([[f1], h * f1]))
     r1 = float(res.r_ac_ohm_km[0])
     rh = res.r_ac_ohm_km[1:]
     w = (p / 100.0) ** 2
@@ -316,3 +322,88 @@ def cable_harmonic_loss(
         extrapolated_from_order=from_order,
         resistance=res,
     )
+
+
+@dataclass(frozen=True)
+class ItemCableLoss:
+    """:func:`cable_harmonic_loss` of a study cable's own current, with its conductor loss
+    in watts (three phase conductors over the cable's length, IEC 60287-1-1 R_ac)."""
+
+    loss: CableLoss
+    item: str
+    length_km: float
+    orders: np.ndarray
+    i_rms_a: np.ndarray  # RMS conductor current per order, A (orders as above)
+
+    @property
+    def i_total_a(self) -> float:
+        return float(np.sqrt(np.sum(self.i_rms_a**2)))
+
+    @property
+    def loss_w(self) -> float:
+        """3·Σ I_h²·R_ac(h)·length, W."""
+        r_h = self.loss.resistance.r_ac_ohm_km[1:]
+        return float(3 * np.sum(self.i_rms_a**2 * r_h) * self.length_km)
+
+    @property
+    def loss1_w(self) -> float:
+        """The same conductor loss if only the fundamental current flowed, W."""
+        return float(3 * self.i_rms_a[0] ** 2 * self.loss.rac1_ohm_km * self.length_km)
+
+    def rows(self) -> list[list[Any]]:
+        """The rows of :meth:`CableLoss.rows`, then I_rms_a, I1_a, loss_w,
+        loss_fundamental_w and the basis."""
+        head = self.loss.rows()
+        return [
+            *head[:-1],
+            ["I_rms_a", self.i_total_a],
+            ["I1_a", float(self.i_rms_a[0])],
+            ["loss_w", self.loss_w],
+            ["loss_fundamental_w", self.loss1_w],
+            [
+                "basis",
+                f"{head[-1][1]} Current: the series (conductor) current of cable "
+                f"{self.item!r} from the harmonic study, every studied order (the line current "
+                "at its bus end less the charging current of the pi model's half capacitance "
+                "there); loss_w over the three phase conductors and the length.",
+            ],
+        ]
+
+
+def item_cable_loss(study: Any, item: str, conductor: Conductor) -> ItemCableLoss:
+    """Harmonic loss of a cable of a three-phase harmonic study
+    (:func:`xlfuncs.power.harmonic_study`) with the current the study puts through it.
+
+    ``conductor`` describes the cable's conductor for the IEC 60287-1-1 AC resistance
+    (the study's own cable model, R·√h from ``r_ohm_km``, is not used: give the DC
+    resistance at the operating temperature). The current is that of the series branch:
+    the line current at the bus end less the charging current of the half capacitance of
+    the pi model at that end (read from the expanded networks).
+    """
+    it = study_item(study, item, "cable")
+    line = study.branch_current(it.name, "bus").phasors
+    v = study.bus_voltage(it.bus).phasors
+    seqs = ["1" if h == 1 else study.sequence(int(h)) for h in study.orders]
+    half = {q: _part_value(study.network(q).parts, f"{it.name}.Ca") for q in set(seqs)}
+    c_half = np.array([half[q] for q in seqs])
+    series = line - 1j * 2 * np.pi * study.freqs_hz * c_half * v
+    rms = np.abs(series) / math.sqrt(2)
+    i1 = float(rms[0])
+    if i1 <= 1e-12 * float(np.sqrt(np.sum(rms**2))):
+        raise InputError(
+            "argument",
+            None,
+            "item",
+            item,
+            f"cable {it.name!r} carries no fundamental current in the study (the loss ratio "
+            "is relative to it)",
+        )
+    orders = study.orders.astype(float)
+    loss = cable_harmonic_loss(conductor, orders, 100 * rms / i1, study.f1)
+    return ItemCableLoss(loss, it.name, float(it["length_km"]), orders, rms)
+
+
+def _part_value(parts: list[list[Any]], name: str) -> float:
+    """The value of part ``name`` in a parts table (header row first), 0 when absent."""
+    key = name.lower()
+    return next((float(r[4]) for r in parts[1:] if str(r[0]).lower() == key), 0.0)

@@ -30,7 +30,8 @@ capacitor tolerance and temperature (coefficient × excursion) and reactor toler
 the range of c and l. A capacitor losing capacitance (ageing, blown internal fuses) moves
 the tuning **up**, toward the harmonic the filter serves.
 
-Resonance with the supply: the supply is R_s + jX_s per phase, X_s = V²/S_sc at f₁,
+Resonance with the supply: the supply is R_s + jX_s per phase with |Z_s| = V²/S_sc (the
+definition of the short-circuit power) split by X/R at f₁, X_s = |Z_s|·(X/R)/√(1 + (X/R)²),
 R_s = X_s/(X/R) constant with frequency; the impedance seen at the bus with the filter
 connected is found by the core solver (:func:`xlfuncs.studies.find_resonances`: scan,
 natural-frequency seeds and refinement to 1e-7). Lossless check value:
@@ -47,7 +48,9 @@ engineer decide.
 
 from __future__ import annotations
 
+import dataclasses
 import math
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass
 from typing import Any
 
@@ -55,6 +58,7 @@ import numpy as np
 
 from ..errors import InputError, TableError
 from .capacitor import capacitor_duty
+from .transformer import study_item
 
 __all__ = [
     "CapacitorStep",
@@ -67,6 +71,7 @@ __all__ = [
     "filter_rating",
     "filter_resonance",
     "highpass_filter",
+    "item_filter_rating",
     "read_order_amps",
     "tuned_filter",
     "tuning_drift",
@@ -77,6 +82,11 @@ _KINDS = {
     "high-pass": "second-order high-pass filter (C in series with L parallel R)",
     "capacitor": "capacitor without reactor",
 }
+
+
+def _qvu(rows: Iterable[tuple[str, Any, str]]) -> list[list[Any]]:
+    """A ``quantity | value | unit`` table from (quantity, value, unit) triples."""
+    return [["quantity", "value", "unit"], *(list(r) for r in rows)]
 
 
 def _num(value: Any, name: str, what: str, *, low: float = 0.0, strict: bool = True) -> float:
@@ -210,29 +220,34 @@ class FilterDesign:
     def rows(self) -> list[list[Any]]:
         """``quantity | value | unit`` table of the design."""
         h = self.tuned_order
-        out: list[list[Any]] = [["quantity", "value", "unit"]]
-        if h is not None:
-            out += [
-                ["tuned_order", h, "h"],
-                ["tuned_hz", h * self.fundamental_hz, "Hz"],
-                ["q_factor", self.q_factor, "X_n/R" if self.kind == "single-tuned" else "R/X_n"],
-            ]
-        out += [
-            ["x_c_ohm", self.x_c_ohm, "Ω at f1"],
-            ["x_l_ohm", self.x_l_ohm, "Ω at f1"],
-            ["r_ohm", self.r_ohm, "Ω"],
-            ["x_n_ohm", self.x_n_ohm, "Ω, √(L/C)"],
-            ["c_farad", self.c_farad, "F"],
-            ["l_henry", self.l_henry, "H"],
-            ["i1_a", self.i1_a, "A rms"],
-            ["v_c1", self.v_c1, "V rms"],
-            ["voltage_rise", self.v_c1 / self.bus_v, "V_C1/V"],
-            ["kvar_cap1", self.kvar_cap1, "kvar"],
-            ["kvar_delivered", self.kvar_delivered, "kvar"],
-            ["p1_loss_w", self.p1_w, "W"],
-            ["basis", f"{_KINDS[self.kind]}; {self.basis}", ""],
-        ]
-        return out
+        q_unit = "X_n/R" if self.kind == "single-tuned" else "R/X_n"
+        tuning = (
+            ()
+            if h is None
+            else (
+                ("tuned_order", h, "h"),
+                ("tuned_hz", h * self.fundamental_hz, "Hz"),
+                ("q_factor", self.q_factor, q_unit),
+            )
+        )
+        return _qvu(
+            (
+                *tuning,
+                ("x_c_ohm", self.x_c_ohm, "Ω at f1"),
+                ("x_l_ohm", self.x_l_ohm, "Ω at f1"),
+                ("r_ohm", self.r_ohm, "Ω"),
+                ("x_n_ohm", self.x_n_ohm, "Ω, √(L/C)"),
+                ("c_farad", self.c_farad, "F"),
+                ("l_henry", self.l_henry, "H"),
+                ("i1_a", self.i1_a, "A rms"),
+                ("v_c1", self.v_c1, "V rms"),
+                ("voltage_rise", self.v_c1 / self.bus_v, "V_C1/V"),
+                ("kvar_cap1", self.kvar_cap1, "kvar"),
+                ("kvar_delivered", self.kvar_delivered, "kvar"),
+                ("p1_loss_w", self.p1_w, "W"),
+                ("basis", f"{_KINDS[self.kind]}; {self.basis}", ""),
+            )
+        )
 
 
 def _size(
@@ -269,15 +284,25 @@ def _size(
     return FilterDesign(kind, ph, f1, v, q_kvar, h, q, x_c, x_c / h**2, r_per_xc * x_c)
 
 
-def tuned_filter(
-    kvar: float,
-    bus_v: float,
-    fundamental_hz: float,
-    tuned_order: float,
-    q_factor: float,
-    phases: int,
-) -> FilterDesign:
-    """Size a single-tuned filter delivering ``kvar`` at ``bus_v`` and f₁.
+Sizer = Callable[[float, float, float, float, float, int], FilterDesign]
+
+
+def _sizer(kind: str, name: str, doc: str) -> Sizer:
+    """The public sizing function of one filter kind (one signature for every kind)."""
+
+    def size(kvar, bus_v, fundamental_hz, tuned_order, q_factor, phases):
+        return _size(kind, kvar, bus_v, fundamental_hz, tuned_order, q_factor, phases)
+
+    size.__name__ = size.__qualname__ = name
+    size.__doc__ = doc
+    return size
+
+
+tuned_filter = _sizer(
+    "single-tuned",
+    "tuned_filter",
+    """Size a single-tuned filter delivering ``kvar`` at ``bus_v`` and f₁:
+    ``tuned_filter(kvar, bus_v, fundamental_hz, tuned_order, q_factor, phases)``.
 
     Examples
     --------
@@ -288,21 +313,14 @@ def tuned_filter(
     >>> d = tuned_filter(80 / 0.93, 525, 50, 0.07 ** -0.5, 1e9, 1)
     >>> round(d.x_c_ohm, 3), round(d.l_henry * 1e3, 3), round(d.tuned_order * 50)
     (3.445, 0.768, 189)
-    """
-    return _size("single-tuned", kvar, bus_v, fundamental_hz, tuned_order, q_factor, phases)
-
-
-def highpass_filter(
-    kvar: float,
-    bus_v: float,
-    fundamental_hz: float,
-    tuned_order: float,
-    q_factor: float,
-    phases: int,
-) -> FilterDesign:
+    """,
+)
+highpass_filter = _sizer(
+    "high-pass",
+    "highpass_filter",
     """Size a second-order high-pass (damped) filter: C in series with L ∥ R, corner at
-    ``tuned_order`` (X_L = X_C there), Q = R/√(L/C)."""
-    return _size("high-pass", kvar, bus_v, fundamental_hz, tuned_order, q_factor, phases)
+    ``tuned_order`` (X_L = X_C there), Q = R/√(L/C); arguments as :func:`tuned_filter`.""",
+)
 
 
 def capacitor_bank(kvar: float, bus_v: float, fundamental_hz: float, phases: int) -> FilterDesign:
@@ -326,20 +344,21 @@ class TuningDrift:
     fundamental_hz: float
 
     def rows(self) -> list[list[Any]]:
-        f1 = self.fundamental_hz
-        return [
-            ["quantity", "value", "unit"],
-            ["order_nominal", self.nominal, "h"],
-            ["order_low", self.low, "h (largest C and L)"],
-            ["order_high", self.high, "h (smallest C and L)"],
-            ["hz_nominal", self.nominal * f1, "Hz"],
-            ["hz_low", self.low * f1, "Hz"],
-            ["hz_high", self.high * f1, "Hz"],
-            ["c_factor_low", self.c_low, "C/C_nominal"],
-            ["c_factor_high", self.c_high, "C/C_nominal"],
-            ["l_factor_low", self.l_low, "L/L_nominal"],
-            ["l_factor_high", self.l_high, "L/L_nominal"],
-        ]
+        ends = (
+            ("nominal", self.nominal, "h"),
+            ("low", self.low, "h (largest C and L)"),
+            ("high", self.high, "h (smallest C and L)"),
+        )
+        return _qvu(
+            (
+                *((f"order_{end}", h, unit) for end, h, unit in ends),
+                *((f"hz_{end}", h * self.fundamental_hz, "Hz") for end, h, _u in ends),
+                ("c_factor_low", self.c_low, "C/C_nominal"),
+                ("c_factor_high", self.c_high, "C/C_nominal"),
+                ("l_factor_low", self.l_low, "L/L_nominal"),
+                ("l_factor_high", self.l_high, "L/L_nominal"),
+            )
+        )
 
 
 def tuning_drift(
@@ -397,27 +416,35 @@ class SupplyResonance:
     r_s_ohm: float
 
     def rows(self) -> list[list[Any]]:
-        return [
-            ["quantity", "value", "unit"],
-            ["parallel_order", self.order, "h"],
-            ["parallel_hz", self.freq_hz, "Hz"],
-            ["z_ohm", self.z_ohm, "Ω per phase, |Z| at the resonance"],
-            ["order_lossless", self.order_lossless, "h, √(X_C/(X_s+X_L))"],
-            ["x_s_ohm", self.x_s_ohm, "Ω per phase at f1"],
-            ["r_s_ohm", self.r_s_ohm, "Ω per phase"],
-        ]
+        return _qvu(
+            (
+                ("parallel_order", self.order, "h"),
+                ("parallel_hz", self.freq_hz, "Hz"),
+                ("z_ohm", self.z_ohm, "Ω per phase, |Z| at the resonance"),
+                ("order_lossless", self.order_lossless, "h, √(X_C/(X_s+X_L))"),
+                ("x_s_ohm", self.x_s_ohm, "Ω per phase at f1"),
+                ("r_s_ohm", self.r_s_ohm, "Ω per phase"),
+            )
+        )
 
 
 def _supply(design: FilterDesign, ssc_mva: Any, xr_ratio: Any) -> tuple[float, float]:
     s = _num(ssc_mva, "ssc_mva", "the short-circuit power at the bus > 0 MVA")
     xr = _num(xr_ratio, "xr_ratio", "the supply X/R ratio at the fundamental > 0")
-    x_s = design.bus_v**2 / (s * 1e6)  # per phase on either basis
+    z_s = design.bus_v**2 / (s * 1e6)  # |Z_s| per phase on either basis
+    x_s = z_s * xr / math.sqrt(1 + xr * xr)
     return x_s, x_s / xr
 
 
-def _parallel_resonances(design: FilterDesign, x_s: float, r_s: float) -> list[Any]:
+def _parallel_resonances(
+    design: FilterDesign, ssc_mva: Any, xr_ratio: Any
+) -> tuple[list[Any], float, float, float]:
+    """The parallel resonances of ``design`` with the supply by the core solver, the
+    supply's X_s and R_s per phase and the lossless estimate √(X_C/(X_s + X_L)); refuses
+    a network too heavily damped to show a |Z| maximum."""
     from .resonance import find_resonances
 
+    x_s, r_s = _supply(design, ssc_mva, xr_ratio)
     f1 = design.fundamental_hz
     w = 2 * math.pi * f1
     parts = [
@@ -428,24 +455,23 @@ def _parallel_resonances(design: FilterDesign, x_s: float, r_s: float) -> list[A
     ]
     est = math.sqrt(design.x_c_ohm / (x_s + design.x_l_ohm))
     res = find_resonances(parts, "bus", f1 * est / 4, f1 * est * 4, points=160, fundamental_hz=f1)
-    return [r for r in res if r.kind == "parallel"]
-
-
-def filter_resonance(design: FilterDesign, ssc_mva: float, xr_ratio: float) -> SupplyResonance:
-    """Parallel resonance of ``design`` with a supply of ``ssc_mva`` (three-phase MVA for
-    a three-phase design) and X/R ``xr_ratio``, by the core solver."""
-    x_s, r_s = _supply(design, ssc_mva, xr_ratio)
-    par = _parallel_resonances(design, x_s, r_s)
-    est = math.sqrt(design.x_c_ohm / (x_s + design.x_l_ohm))
+    par = [r for r in res if r.kind == "parallel"]
     if not par:
         raise InputError(
             "argument",
             None,
             "ssc_mva",
             ssc_mva,
-            f"no parallel resonance near order {est:.3g} (the network is too heavily damped "
-            "to show a |Z| maximum)",
+            f"no parallel resonance near order {est:.3g} for {design.kvar:g} kvar (the network "
+            "is too heavily damped to show a |Z| maximum)",
         )
+    return par, x_s, r_s, est
+
+
+def filter_resonance(design: FilterDesign, ssc_mva: float, xr_ratio: float) -> SupplyResonance:
+    """Parallel resonance of ``design`` with a supply of ``ssc_mva`` (three-phase MVA for
+    a three-phase design) and X/R ``xr_ratio``, by the core solver."""
+    par, x_s, r_s, est = _parallel_resonances(design, ssc_mva, xr_ratio)
     best = max(par, key=lambda r: r.z_ohm)
     return SupplyResonance(best.order, best.freq_hz, best.z_ohm, est, x_s, r_s)
 
@@ -509,6 +535,7 @@ class FilterRating:
     reactor_rms_v: float
     loss_w: float
     design: FilterDesign
+    basis: str
 
     def rows(self) -> list[list[Any]]:
         """``quantity | value | rated | ratio | limit | result``."""
@@ -525,19 +552,43 @@ class FilterRating:
             ["reactor rms voltage", self.reactor_rms_v, "", "", "", "V rms"],
             ["losses in R", self.loss_w, "", "", "", "W (R constant with frequency)"],
         ]
-        out.append(
-            [
-                "basis",
-                "capacitor limits IEEE Std 18 (1.10 V rms, 1.20 V peak, 1.35 I rms, 1.35 kvar); "
-                f"{self.design.basis}; reactor values against the maker's rating. Screening "
-                "calculation: the makers and a licensed engineer decide.",
-                "",
-                "",
-                "",
-                "",
-            ]
-        )
+        out.append(["basis", self.basis, "", "", "", ""])
         return out
+
+
+_IEEE18 = "capacitor limits IEEE Std 18 (1.10 V rms, 1.20 V peak, 1.35 I rms, 1.35 kvar)"
+_MAKERS = (
+    "reactor values against the maker's rating. Screening calculation: the makers and a "
+    "licensed engineer decide."
+)
+
+
+def _rated(
+    design: FilterDesign,
+    duty: Any,
+    scale: dict[str, float],
+    hh: np.ndarray,
+    i_l: np.ndarray,
+    loss_w: float,
+    basis: str,
+) -> FilterRating:
+    """A rating from a capacitor duty (its rows scaled to the reported basis) and the
+    reactor's RMS current per tone ``i_l`` at orders ``hh`` (the first the fundamental)."""
+    a_l = np.abs(i_l)
+    return FilterRating(
+        capacitor_rows=tuple(
+            (n, v * scale[n], r * scale[n], ratio, lim, ok)
+            for n, v, r, ratio, lim, ok in duty.rows
+        ),
+        capacitor_passed=duty.passed,
+        reactor_rms_a=float(np.sqrt(np.sum(a_l**2))),
+        reactor_peak_a=float(math.sqrt(2) * np.sum(a_l)),
+        reactor_i1_a=float(a_l[0]),
+        reactor_rms_v=float(np.sqrt(np.sum((a_l * design.x_l_ohm * hh) ** 2)) * scale["volts"]),
+        loss_w=loss_w,
+        design=design,
+        basis=basis,
+    )
 
 
 def filter_rating(
@@ -585,27 +636,65 @@ def filter_rating(
     lf = design.line_factor
     duty = capacitor_duty(hh * f1, v_cap, i_all, kv / design.phases, cv / lf)
     scale = {"rms voltage": lf, "peak voltage": lf, "rms current": 1.0, "kvar": design.phases}
-    cap_rows = tuple(
-        (n, v * scale[n], r * scale[n], ratio, lim, ok) for n, v, r, ratio, lim, ok in duty.rows
-    )
     zl = 1j * design.x_l_ohm * hh
     if design.kind == "single-tuned":
-        i_l = i_all.astype(complex)
-        i_r = i_all.astype(complex)
+        i_l = i_r = i_all.astype(complex)
     else:  # high-pass: L ∥ R share the branch current
         i_l = i_all * design.r_ohm / (design.r_ohm + zl)
         i_r = i_all * zl / (design.r_ohm + zl)
-    a_l = np.abs(i_l)
-    return FilterRating(
-        capacitor_rows=cap_rows,
-        capacitor_passed=duty.passed,
-        reactor_rms_a=float(np.sqrt(np.sum(a_l**2))),
-        reactor_peak_a=float(math.sqrt(2) * np.sum(a_l)),
-        reactor_i1_a=float(a_l[0]),
-        reactor_rms_v=float(np.sqrt(np.sum((a_l * design.x_l_ohm * hh) ** 2)) * lf),
-        loss_w=float(design.phases * np.sum(np.abs(i_r) ** 2) * design.r_ohm),
-        design=design,
+    loss = float(design.phases * np.sum(np.abs(i_r) ** 2) * design.r_ohm)
+    basis = f"{_IEEE18}; {design.basis}; {_MAKERS}"
+    return _rated(design, duty, scale | {"volts": lf}, hh, i_l, loss, basis)
+
+
+def item_filter_rating(study: Any, item: str) -> FilterRating:
+    """Rate a filter item of a three-phase harmonic study (:func:`xlfuncs.power.harmonic_study`)
+    with the currents the study puts through it.
+
+    The capacitor rows are the study's IEEE Std 18 duty of one phase unit against the
+    item's own rating (:meth:`~xlfuncs.power.HarmonicStudy.capacitor_duty`: kvar/3 at
+    kv/√3 for a star, at kv for a delta). The reactor figures are those of one phase unit
+    too (a delta leg carries 1/√3 of the line current and has three times the star
+    equivalent's reactance); the losses are those of all three phases in R (constant with
+    frequency, as the study models it). ``design`` is the item's star equivalent at the
+    nominal voltage of its bus (X_C = kV²/kvar of the capacitor's rating, X_L = X_C/h_t²,
+    R = X_n/q).
+    """
+    from ..power.expand import tuned_order
+
+    it = study_item(study, item, "filter")
+    duty = study.capacitor_duty(it.name)
+    i_line = np.abs(study.branch_current(it.name).phasors) / math.sqrt(2)  # rms per order
+    delta = it.connection == "D"
+    v = it["kv"] * 1e3
+    x_c = v * v / (it["kvar"] * 1e3)
+    h_t = tuned_order(it)
+    x_l = x_c / h_t**2
+    bus_v = study.bus_kv(it.bus) * 1e3
+    d = FilterDesign(
+        "single-tuned",
+        3,
+        study.f1,
+        bus_v,
+        0.0,
+        h_t,
+        it["q_factor"],
+        x_c,
+        x_l,
+        x_c / h_t / it["q_factor"],
     )
+    d = dataclasses.replace(d, kvar=d.kvar_delivered)
+    leg = 1 / math.sqrt(3) if delta else 1.0
+    hh = study.orders.astype(float)
+    loss = float(3 * np.sum(i_line**2) * d.r_ohm)
+    basis = (
+        f"{_IEEE18}; one phase unit of filter {it.name!r} ({it.connection}, "
+        f"{'line-to-line' if delta else 'line-to-neutral'} voltage) against its own rating, "
+        "currents from the harmonic study (balanced; every studied order); losses of all "
+        f"three phases; {_MAKERS}"
+    )
+    scale = {"rms voltage": 1.0, "peak voltage": 1.0, "rms current": 1.0, "kvar": 1.0}
+    return _rated(d, duty, scale | {"volts": 3.0 if delta else 1.0}, hh, i_line * leg, loss, basis)
 
 
 # ------------------------------------------------------------------------ step search
@@ -690,16 +779,7 @@ def capacitor_steps(
             d = capacitor_bank(kvar, bus_v, fundamental_hz, phases)
         else:
             d = tuned_filter(kvar, bus_v, fundamental_hz, tuned_order, q_factor or 0.0, phases)
-        x_s, r_s = _supply(d, ssc_mva, xr_ratio)
-        par = _parallel_resonances(d, x_s, r_s)
-        if not par:
-            raise InputError(
-                "argument",
-                None,
-                "ssc_mva",
-                ssc_mva,
-                f"no parallel resonance found for {kvar:g} kvar (heavily damped network)",
-            )
+        par, _x_s, _r_s, _est = _parallel_resonances(d, ssc_mva, xr_ratio)
         orders = tuple(sorted(r.order for r in par))
         dist_all = np.abs(np.array(orders)[:, None] - inj[None, :])
         if relative:

@@ -58,6 +58,7 @@ __all__ = [
     "POWER_ROWS",
     "WIRINGS",
     "PowerQuantities",
+    "item_powers",
     "parse_wiring",
     "port_powers",
     "power_quantities",
@@ -136,6 +137,7 @@ class PowerQuantities:
     fundamental_note: str
     wiring: str
     label: str = ""
+    note: str = ""
 
     @property
     def basis(self) -> str:
@@ -146,7 +148,7 @@ class PowerQuantities:
         )
         if self.wiring != "1ph":
             text += "; effective V_e, I_e with rho = 1, xi = 1"
-        return text
+        return text + (f"; {self.note}" if self.note else "")
 
     def rows(self) -> list[list[Any]]:
         """``quantity | value | unit``: the fixed rows, then V, I, f1_hz and the basis."""
@@ -187,6 +189,7 @@ def power_quantities(
     *,
     label: str = "",
     fundamental_note: str = "given",
+    note: str = "",
     rho: float = 1.0,
     xi: float = 1.0,
 ) -> PowerQuantities:
@@ -333,6 +336,7 @@ def power_quantities(
         fundamental_note=fundamental_note,
         wiring=wiring,
         label=label,
+        note=note,
     )
 
 
@@ -389,3 +393,71 @@ def _known(sol: Any, name: str) -> bool:
     except KeyError:
         return False
     return True
+
+
+def item_powers(
+    study: Any, item: str, end: str | None = None, wiring: str | None = None
+) -> PowerQuantities:
+    """IEEE 1459 quantities of a balanced three-phase item of a harmonic study
+    (:func:`xlfuncs.power.harmonic_study`), at its end ``end`` (``bus``, default, or
+    ``bus_to`` of a transformer or cable).
+
+    The voltage is the line-to-neutral voltage of that end's bus and the current the line
+    current from that bus into the item, both phase a over every studied order: powers are
+    absorbed (a supply that delivers shows P < 0; the two ends of a cable add up to its
+    losses). ``wiring`` is ``3ph4w`` or ``3ph3w``; by default ``3ph4w`` where the item
+    offers a zero-sequence path at that end (a grounded star; a cable carrying
+    zero-sequence current), else ``3ph3w`` — the two agree whenever no zero-sequence
+    component is present, and the basis row says which was used and why.
+    """
+    from ..power.vector_group import sequence_of
+
+    it = study.equipment.item(item)
+    e = "bus" if end is None or (isinstance(end, str) and not end.strip()) else end
+    cur = study.branch_current(it.name, e)  # validates the end; refuses an unloaded motor
+    e = str(e).strip().lower()
+    bus = it.bus if e == "bus" else it.bus_to
+    volt = study.bus_voltage(bus)
+    zero = np.array([sequence_of(int(h)) == "0" for h in study.orders])
+    if wiring is None or (isinstance(wiring, str) and not wiring.strip()):
+        if it.kind == "cable":
+            four = bool(np.any(np.abs(cur.phasors[zero]) > 0))
+            why = "a cable carrying zero-sequence current" if four else "no zero-sequence current"
+        else:
+            four = _grounded_star(study, it.name, e)
+            why = "a grounded star at that end" if four else "no grounded star at that end"
+        w = "3ph4w" if four else "3ph3w"
+        how = f"wiring {w} from the item ({why})"
+    else:
+        w = parse_wiring(wiring, "item_wiring")
+        how = f"wiring {w} as given"
+        if w == "1ph":
+            raise InputError(
+                "argument",
+                None,
+                "item_wiring",
+                wiring,
+                "a study item is three-phase: 3ph4w or 3ph3w",
+            )
+    return power_quantities(
+        study.freqs_hz,
+        volt.phasors,
+        cur.phasors,
+        study.f1,
+        w,
+        label=f"{it.name} at {e}",
+        fundamental_note="the study's fundamental_hz",
+        note=f"item {it.name!r} at its {e} ({bus}), harmonic study orders {_orders(study)}; {how}",
+    )
+
+
+def _grounded_star(study: Any, name: str, end: str) -> bool:
+    try:
+        return bool(study.neutral_end(name, end) == end)
+    except InputError:
+        return False
+
+
+def _orders(study: Any) -> str:
+    h = [int(x) for x in study.orders]
+    return ", ".join(map(str, h)) if len(h) <= 8 else f"{h[0]}…{h[-1]} ({len(h)} orders)"

@@ -137,7 +137,8 @@ def _z_and_slope(
     b = port_vector(system, plus, minus)
     z, dz = solve_response(system, b, port_functional(plus, minus, ""), f)
     assert dz is not None
-    return z, np.real(dz / z)
+    with np.errstate(divide="ignore", invalid="ignore"):  # Z = 0 exactly at a lossless zero
+        return z, np.real(dz / z)
 
 
 Row = tuple[str, float, float, NaturalFrequency | None]

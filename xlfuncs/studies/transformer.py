@@ -49,8 +49,10 @@ from ..errors import InputError, TableError
 
 __all__ = [
     "STRAY_EXPONENT",
+    "ItemDerating",
     "TransformerDerating",
     "harmonic_loss_factor",
+    "item_derating",
     "k_factor",
     "read_harmonic_spectrum",
     "transformer_derating",
@@ -262,3 +264,130 @@ def transformer_derating(
     i_max = math.sqrt((1 + pec) / (1 + f_hl * pec))
     ratio = math.sqrt(float(np.sum((p / 100.0) ** 2)))
     return TransformerDerating(f_hl, f_str, k_factor(h, p), i_max, pec, posl, ratio)
+
+
+@dataclass(frozen=True)
+class ItemDerating:
+    """:func:`transformer_derating` of a study transformer's own current, with its load:
+    ``load_pu`` = I_rms / I_rated at the end whose line current is the winding current."""
+
+    derating: TransformerDerating
+    item: str
+    end: str
+    orders: np.ndarray
+    pct: np.ndarray
+    i_rms_a: float
+    i_rated_a: float
+    end_note: str
+
+    @property
+    def load_pu(self) -> float:
+        return self.i_rms_a / self.i_rated_a
+
+    @property
+    def load_over_i_max(self) -> float:
+        """load_pu / I_max_pu: at most 1 when the winding hot spot stays within its rating."""
+        return self.load_pu / self.derating.I_max_pu
+
+    def rows(self) -> list[list[Any]]:
+        """The rows of :meth:`TransformerDerating.rows`, then I_rms_a, I_rated_a, load_pu,
+        load_over_I_max and the basis."""
+        head = self.derating.rows()
+        return [
+            *head[:-1],
+            ["I_rms_a", self.i_rms_a],
+            ["I_rated_a", self.i_rated_a],
+            ["load_pu", self.load_pu],
+            ["load_over_I_max", self.load_over_i_max],
+            [
+                "basis",
+                f"{head[-1][1]} Spectrum: the line current of {self.item!r} at its {self.end} "
+                f"({self.end_note}), every studied order, from the harmonic study.",
+            ],
+        ]
+
+
+_ZERO_RTOL = 1e-9  # zero-sequence current below this fraction of the RMS is round-off
+
+
+def study_item(study: Any, item: str, kind: str) -> Any:
+    """The item ``item`` of a harmonic study's equipment table, refused unless a ``kind``."""
+    it = study.equipment.item(item)
+    if it.kind != kind:
+        raise InputError(
+            "argument", None, "item", item, f"{it.name!r} is a {it.kind}; expected a {kind}"
+        )
+    return it
+
+
+def item_derating(
+    study: Any,
+    item: str,
+    p_ec_pu: float,
+    p_osl_pu: float | None = None,
+    end: str | None = None,
+) -> ItemDerating:
+    """Derate a transformer of a three-phase harmonic study
+    (:func:`xlfuncs.power.harmonic_study`) for the harmonic current the study puts
+    through it, and compare its load with the permissible current.
+
+    The spectrum is the transformer's line current at ``end`` in % of its fundamental.
+    Ampere-turns balance (no magnetising branch), so in per unit both windings carry the
+    same current — except that a delta winding's line current lacks the zero-sequence
+    current circulating in the delta. The default end is therefore the star winding's
+    (``bus_to`` unless the LV winding is a delta facing a star HV); an end at a delta
+    winding is refused when the other winding carries zero-sequence current.
+    ``I_rated`` = kVA / (√3 · kV of that winding).
+    """
+    from ..power.vector_group import sequence_of
+
+    it = study_item(study, item, "transformer")
+    vg = it.group
+    if end is None or (isinstance(end, str) and not end.strip()):
+        e = "bus" if vg.lv == "d" and vg.hv != "D" else "bus_to"
+        note = "the star winding" if (vg.lv != "d" or vg.hv != "D") else "delta-delta"
+    else:
+        e = str(end).strip().lower()
+        note = "as given"
+    cur = study.branch_current(it.name, e)  # validates the end
+    winding = vg.hv if e == "bus" else vg.lv
+    if winding.lower() == "d":
+        other = study.branch_current(it.name, "bus_to" if e == "bus" else "bus")
+        zero = np.array([sequence_of(int(h)) == "0" for h in study.orders])
+        zs = float(np.sqrt(np.sum(np.abs(other.phasors[zero]) ** 2)))
+        if zs > _ZERO_RTOL * float(np.sqrt(np.sum(np.abs(other.phasors) ** 2))):
+            raise InputError(
+                "argument",
+                None,
+                "winding_end",
+                end,
+                f"the line current at the delta winding of {it.name!r} lacks the zero-sequence "
+                "current circulating in the delta; use the star winding's end",
+            )
+    rms = np.abs(cur.phasors) / math.sqrt(2)
+    total = float(np.sqrt(np.sum(rms**2)))
+    i1 = float(rms[0])
+    if total == 0 or i1 <= 1e-12 * total:
+        raise InputError(
+            "argument",
+            None,
+            "item",
+            item,
+            f"transformer {it.name!r} carries no fundamental current in the study (no load to "
+            "derate)",
+        )
+    pct = 100 * rms / i1
+    pct[0] = 100.0
+    orders = study.orders.astype(float)
+    kv = it["kv_hv"] if e == "bus" else it["kv_lv"]
+    i_rated = it["kva"] * 1e3 / (math.sqrt(3) * kv * 1e3)
+    return ItemDerating(
+        transformer_derating(orders, pct, p_ec_pu, p_osl_pu),
+        it.name,
+        e,
+        orders,
+        pct,
+        total,
+        i_rated,
+        f"{vg.name}, {note}",
+    )

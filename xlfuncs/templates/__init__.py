@@ -37,7 +37,9 @@ A :class:`~.model.Template` lists, in plain frozen dataclasses:
 
 Formulas are Excel text over the template's names plus placeholders: ``{key}`` is block
 or table ``key`` as a whole (a spilled block renders as ``ANCHORARRAY``), ``{key:col}``
-the data rows of one of its columns, ``{@col}`` the same row's cell in a formula table;
+the data rows of one of its columns, ``{key:@}`` a block's spilling cell alone (its header,
+or the one-line message it shows when it did not spill: an ``ANCHORARRAY`` of a cell that
+did not spill is ``#REF!``), ``{@col}`` the same row's cell in a formula table;
 :func:`.formulas.pick` finds a cell of a spilled table by row label and header. Example::
 
     Template(
@@ -63,13 +65,17 @@ from pathlib import Path
 from .builder import CAUTION, DEMO, build
 from .dclink import TEMPLATE as DCLINK
 from .detuned import TEMPLATE as DETUNED
+from .filter_design import TEMPLATE as FILTER_DESIGN
 from .input_filter import TEMPLATE as INPUT_FILTER
 from .model import Template
 from .plant import TEMPLATE as PLANT
+from .twelve_pulse import TEMPLATE as TWELVE
 
 __all__ = ["CAUTION", "DEMO", "TEMPLATES", "Template", "build", "build_all", "main"]
 
-TEMPLATES: dict[str, Template] = {t.file: t for t in (PLANT, DETUNED, DCLINK, INPUT_FILTER)}
+TEMPLATES: dict[str, Template] = {
+    t.file: t for t in (PLANT, DETUNED, DCLINK, INPUT_FILTER, FILTER_DESIGN, TWELVE)
+}
 
 
 def build_all(out_dir: str | Path, names: list[str] | None = None) -> list[Path]:

@@ -145,6 +145,8 @@ class Binding:
             return _a1(r, pos.col + pos.ids.index(key[1:]), absolute=False)
         if key in self.blocks:
             pos = self.blocks[key]
+            if col == "@":  # the spilling cell itself: a header, or a one-line message
+                return pos.anchor()
             return f"_xlfn.ANCHORARRAY({pos.anchor()})" if col is None else pos.column(col)
         pos = self.tables[key]
         return pos.area() if col is None else pos.column(col)
@@ -422,6 +424,7 @@ def _inputs(book: Book, page: Page) -> None:
             for inp in group.items:
                 _input_row(book, page, page.row, inp)
                 page.row += 1
+            page.keep.append((page.row - len(group.items) - 1, page.row - 1))
         else:
             _grid(book, page, group)
         page.row += 1
@@ -846,6 +849,7 @@ def _scenarios(book: Book, page: Page, cases: Page) -> None:
     book.verdict_colours(page.ws, f"{_a1(rows['result'], 2, False)}:{_a1(r, last, False)}")
     page.row = r + 2
     page.wrap(page.row, 0, 3 + n, sc.note)
+    page.keep.append((top, page.row))  # the results matrix, its verdicts and the note together
     page.row += 2
 
 

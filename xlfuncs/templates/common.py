@@ -67,7 +67,9 @@ def duty_block(part: str, kvar: str, volts: str, when: str) -> Block:
     )
 
 
-def duty_checks(applies: str | None) -> tuple[Check, ...]:
+def duty_checks(applies: str | None, block: str = "duty", row: str = "") -> tuple[Check, ...]:
+    """The four IEEE 18 checks from the ratio and limit columns of a duty table (``block``;
+    its row names prefixed by ``row``, e.g. "capacitor ")."""
     rows = (
         ("Capacitor RMS voltage / rated", "rms voltage", "110 % of rated RMS voltage"),
         ("Capacitor peak voltage / rated peak", "peak voltage",
@@ -76,24 +78,26 @@ def duty_checks(applies: str | None) -> tuple[Check, ...]:
         ("Capacitor kvar / rated", "kvar", "135 % of rated kvar"),
     )
     return tuple(
-        Check(label, "=" + pick("duty", row, "ratio"), "=" + pick("duty", row, "limit"),
+        Check(label, "=" + pick(block, row + name, "ratio"), "=" + pick(block, row + name, "limit"),
               "ratio", f"IEEE Std 18-2002 continuous limits: {src}", applies=applies,
               fmt="3")
-        for label, row, src in rows
+        for label, name, src in rows
     )
 
 
-def scan_blocks(f_stop: str) -> tuple[Block, ...]:
-    """The impedance scan at the bus and its x axis as harmonic order (Data sheet)."""
+def scan_blocks(f_stop: str, parts: str = "parts_tbl", key: str = "",
+                what: str = "") -> tuple[Block, ...]:
+    """The impedance scan at the bus (block ``scan`` + key) and at the injected orders
+    (``zinj`` + key) of the parts table ``parts``, and, for the first set (no key), the
+    scan's x axis as harmonic order (``scan_h``) — Data sheet."""
+    z_cols = (Col("freq_hz", "hz"), Col("z_ohm", "sig"), Col("angle_deg", "deg"))
     return (
-        Block("scan", "Impedance scan at the bus (200 points)",
-              f'CKT_SCAN(parts_tbl,"BUS",f_hz,{f_stop},200,opts,sources_tbl)',
-              (Col("freq_hz", "hz"), Col("z_ohm", "sig"), Col("angle_deg", "deg")), 201),
-        Block("scan_h", "harmonic order", "{scan:freq_hz}/f_hz", (Col("h", "2"),), 201,
-              headed=False),
-        Block("zinj", "Impedance at the injected orders",
-              'CKT_IMPEDANCE(parts_tbl,"BUS",{harm:f},opts,sources_tbl)',
-              (Col("freq_hz", "hz"), Col("z_ohm", "sig"), Col("angle_deg", "deg")), 9),
+        Block(f"scan{key}", f"Impedance scan at the bus{what} (200 points)",
+              f'CKT_SCAN({parts},"BUS",f_hz,{f_stop},200,opts,sources_tbl)', z_cols, 201),
+        *(() if key else (Block("scan_h", "harmonic order", "{scan:freq_hz}/f_hz",
+                                (Col("h", "2"),), 201, headed=False),)),
+        Block(f"zinj{key}", f"Impedance at the injected orders{what}",
+              f'CKT_IMPEDANCE({parts},"BUS",{{harm:f}},opts,sources_tbl)', z_cols, 9),
     )
 
 
@@ -116,7 +120,7 @@ def first_resonance(kind: str, col: int) -> str:
     """The first resonance of a kind from the resonance list, or "none found"; an error
     line of the function stays visible as it is."""
     return (
-        f'=IF(LEFT(INDEX({{res}},1,1),6)="ERROR:",INDEX({{res}},1,1),IFERROR(INDEX('
+        f'=IF(LEFT({{res:@}},6)="ERROR:",{{res:@}},IFERROR(INDEX('
         f'_xlfn._xlws.FILTER(INDEX({{res}},0,{col}),INDEX({{res}},0,1)="{kind}"),1,1),'
         f'"none found"))'
     )
@@ -181,11 +185,13 @@ def harm_table(with_distance: bool) -> Table:
     return Table("harm", "Harmonic table at the injected orders", cols, rows, excel=False)
 
 
-def vbus_block() -> Block:
-    return Block("vbus", "Bus voltage per frequency (V, line-to-neutral)",
-                 'CKT_SOLVE(parts_tbl,sources_tbl,"BUS","V",opts)',
-                 (Col("freq_hz", "hz"), Col("peak", "2"), Col("rms", "2"),
-                  Col("phase_deg", "deg")), 12)
+SOLVE_COLS = (Col("freq_hz", "hz"), Col("peak", "2"), Col("rms", "2"), Col("phase_deg", "deg"))
+
+
+def vbus_block(parts: str = "parts_tbl", key: str = "vbus", what: str = "") -> Block:
+    """The bus voltage per frequency from CKT_SOLVE (of the parts table ``parts``)."""
+    return Block(key, f"Bus voltage per frequency{what} (V, line-to-neutral)",
+                 f'CKT_SOLVE({parts},sources_tbl,"BUS","V",opts)', SOLVE_COLS, 12)
 
 
 def limits_block() -> Block:

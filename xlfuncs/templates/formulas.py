@@ -63,7 +63,7 @@ def spilled(block: str, header: str, expr: str) -> str:
     """``expr`` (an aggregate over a block's column ranges) only when the block spilled
     its table (first header as expected); else what the block shows (its one-line error,
     an error value or "n/a") — so an empty range can never read as 0."""
-    first = "INDEX({" + block + "},1,1)"
+    first = "{" + block + ":@}"  # (ANCHORARRAY of a cell that did not spill is #REF!)
     return f'IF({first}="{header}",{expr},{first})'
 
 

@@ -3,8 +3,9 @@
 A :class:`Template` lists what the book holds; :mod:`.builder` decides where it goes.
 Formulas are Excel formula text over the template's own names (inputs, results, table
 names) plus placeholders the builder resolves: ``{key}`` is the spilled block or table
-``key`` as a whole, ``{key:col}`` one column of its data rows, ``{@col}`` the same row's
-cell of column ``col`` inside a formula table.
+``key`` as a whole, ``{key:col}`` one column of its data rows, ``{key:@}`` a block's
+spilling cell alone (its header, or the one-line message it shows when it did not
+spill), ``{@col}`` the same row's cell of column ``col`` inside a formula table.
 """
 
 from __future__ import annotations

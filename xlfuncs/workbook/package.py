@@ -6,11 +6,21 @@ member by member, byte for byte, and only the ``<sheetData>`` of changed workshe
 edited in place: cached values (``<v>``) of formula cells, the values of spilled cells,
 the ``ref`` of spilling formulas, and the ``<dimension>``. Styles, number formats, widths,
 merged cells, charts, defined names, a ``.xlsm``'s VBA project and the dynamic-array
-metadata all pass through untouched. Output is written to a temporary file and renamed.
+metadata all pass through untouched. Output is written to a temporary file, flushed to
+disk, renamed over the target and the directory flushed, so a crash leaves either the old
+file or the complete new one. Every member copied was read and CRC-checked by
+:func:`~.safety.read_archive`.
+
+The copy drops ``fullCalcOnLoad`` and raises ``calcId`` in ``<calcPr>``: its cached values
+are current, and a spreadsheet program that recalculates everything on load (it does when
+asked to, or when the file's ``calcId`` is lower than its own engine's identifier:
+[MS-XLS] §2.4.215, ECMA-376 Part 1 §18.2.2) would turn every ``CKT_`` cell into ``#NAME?``
+where the add-in is not loaded.
 """
 
 from __future__ import annotations
 
+import errno
 import io
 import math
 import os
@@ -19,18 +29,31 @@ import tempfile
 import zipfile
 from collections.abc import Iterable
 from dataclasses import dataclass, field
+from functools import lru_cache
 from pathlib import Path, PurePosixPath
 from typing import Any
-from xml.sax.saxutils import escape
+from xml.sax.saxutils import escape, unescape
 
 from defusedxml.ElementTree import fromstring
-from openpyxl.utils import get_column_letter
-from openpyxl.utils.cell import column_index_from_string, coordinate_from_string
 
 from ..errors import WorkbookError
+from .cells import cell_ref, col_index, parse_range
 from .engine import CellError
+from .safety import DEFAULT_LIMITS, Archive, Limits, read_archive
 
-__all__ = ["FormulaCell", "Package", "SheetXml", "cells_of", "write_atomic"]
+__all__ = [
+    "FormulaCell",
+    "Package",
+    "SheetXml",
+    "cells_of",
+    "check_output_file",
+    "fsync_dir",
+    "output_error",
+    "write_atomic",
+]
+
+CALC_ID = "999999"  # above every released engine identifier (124519 = 2007, 145621 = 2010)
+_UNESCAPE = {"&quot;": '"', "&apos;": "'"}
 
 _NS_MAIN = "http://schemas.openxmlformats.org/spreadsheetml/2006/main"
 _NS_REL = "http://schemas.openxmlformats.org/officeDocument/2006/relationships"
@@ -56,13 +79,8 @@ def _attrs(tag: str) -> dict[str, str]:
     return dict(_ATTR.findall(tag))
 
 
-def _ref(row: int, col: int) -> str:
-    return f"{get_column_letter(col)}{row}"
-
-
-def _parse_ref(ref: str) -> tuple[int, int]:
-    letters, row = coordinate_from_string(ref)
-    return int(row), column_index_from_string(letters)
+_ref = cell_ref
+_CELL_COL = re.compile(r"\$?([A-Za-z]{1,3})\$?\d+")
 
 
 @dataclass
@@ -80,6 +98,21 @@ class _Row:
     cells: dict[int, str] = field(default_factory=dict)  # col -> full <c> element
 
 
+@lru_cache(maxsize=8)
+def _patterns(prefix: str) -> dict[str, re.Pattern[str]]:
+    p = re.escape(prefix)
+    return {
+        "row": re.compile(rf"<{p}row\b([^>]*?)(?:/>|>(.*?)</{p}row>)", re.S),
+        "c": re.compile(rf"<{p}c\b([^>]*?)(?:/>|>(.*?)</{p}c>)", re.S),
+        "f_open": re.compile(rf"<{p}f\b([^>]*?)(?:/>|>)"),
+        "f_text": re.compile(rf"(<{p}f\b[^>]*?>)(.*?)(</{p}f>)", re.S),
+        "f_any": re.compile(rf"<{p}f[\s/>]"),
+        "f_elem": re.compile(rf"<{p}f\b[^>]*?(?:/>|>.*?</{p}f>)", re.S),
+        "ext": re.compile(rf"<{p}extLst\b.*?</{p}extLst>", re.S),
+        "r_attr": re.compile(r'\sr="([^"]*)"'),
+    }
+
+
 class SheetXml:
     """One worksheet's XML with an editable ``<sheetData>``."""
 
@@ -89,48 +122,84 @@ class SheetXml:
         if m is None:
             raise WorkbookError(part, "worksheet without sheetData")
         self.prefix = m.group(1) or ""
+        self._pat = _patterns(self.prefix)
         self._head, self._tail = xml[: m.start()], xml[m.end() :]
         self._open = f"<{self.prefix}sheetData>"
         self.rows: dict[int, _Row] = {}
         self._changed_rows: set[int] = set()
+        self._formulas: set[tuple[int, int]] = set()
         body = m.group(2) or ""
-        p = re.escape(self.prefix)
         next_row = 1
-        for rm in re.finditer(rf"<{p}row\b([^>]*?)(?:/>|>(.*?)</{p}row>)", body, re.S):
-            ra = _attrs(rm.group(1))
-            r = int(ra.get("r", next_row))
+        f_any, r_attr = self._pat["f_any"], self._pat["r_attr"]
+        for rm in self._pat["row"].finditer(body):
+            ra = r_attr.search(rm.group(1))
+            r = int(ra.group(1)) if ra else next_row
             next_row = r + 1
             row = _Row(rm.group(1))
             next_col = 1
-            for cm_ in re.finditer(
-                rf"<{p}c\b([^>]*?)(?:/>|>(.*?)</{p}c>)", rm.group(2) or "", re.S
-            ):
-                ca = _attrs(cm_.group(1))
-                if "r" in ca:
-                    _rr, c = _parse_ref(ca["r"])
-                else:
-                    c = next_col
+            for cm_ in self._pat["c"].finditer(rm.group(2) or ""):
+                ca = r_attr.search(cm_.group(1))
+                cm = _CELL_COL.match(ca.group(1)) if ca else None
+                c = col_index(cm.group(1)) if cm else next_col
                 next_col = c + 1
-                row.cells[c] = cm_.group(0)
+                cell = cm_.group(0)
+                row.cells[c] = cell
+                if f_any.search(cell):
+                    self._formulas.add((r, c))
             self.rows[r] = row
+
+    def copy(self) -> SheetXml:
+        """An independent copy (edits to one do not show in the other)."""
+        new = object.__new__(SheetXml)
+        new.__dict__.update(self.__dict__)
+        new.rows = {r: _Row(row.attrs, dict(row.cells)) for r, row in self.rows.items()}
+        new._changed_rows = set(self._changed_rows)
+        new._formulas = set(self._formulas)
+        return new
 
     # ---------------------------------------------------------------------- reading
     def formula_cells(self) -> list[FormulaCell]:
         out = []
-        p = re.escape(self.prefix)
-        for r, row in self.rows.items():
-            for c, cell in row.cells.items():
-                fm = re.search(rf"<{p}f\b([^>]*?)(?:/>|>)", cell)
-                if fm is None:
-                    continue
-                fa = _attrs(fm.group(1))
-                ca = _attrs(cell[: cell.index(">")])
-                out.append(FormulaCell(r, c, fa.get("t", ""), fa.get("ref", ""), ca.get("cm", "")))
+        f_open = self._pat["f_open"]
+        for r, c in sorted(self._formulas):
+            cell = self.rows[r].cells[c]
+            fm = f_open.search(cell)
+            if fm is None:
+                continue
+            fa = _attrs(fm.group(1))
+            ca = _attrs(cell[: cell.index(">")])
+            out.append(FormulaCell(r, c, fa.get("t", ""), fa.get("ref", ""), ca.get("cm", "")))
         return out
 
+    def formula_texts(self) -> list[tuple[int, int, str]]:
+        """(row, col, formula text without '=') of every formula cell that holds text."""
+        out = []
+        f_text = self._pat["f_text"]
+        for r, c in sorted(self._formulas):
+            fm = f_text.search(self.rows[r].cells[c])
+            if fm and fm.group(2):
+                out.append((r, c, unescape(fm.group(2), _UNESCAPE)))
+        return out
+
+    def replace_formula_text(self, row: int, col: int, text: str) -> None:
+        """Replace a formula cell's formula text (the cell keeps everything else)."""
+        cell = self.rows[row].cells[col]
+        fm = self._pat["f_text"].search(cell)
+        if fm is None:
+            raise KeyError((row, col))
+        new = fm.group(1) + escape(text) + fm.group(3)
+        self.rows[row].cells[col] = cell[: fm.start()] + new + cell[fm.end() :]
+        self._changed_rows.add(row)
+
+    def used_extent(self) -> tuple[int, int]:
+        """(last row, last column) holding a cell; (0, 0) for an empty sheet."""
+        rows = [r for r, row in self.rows.items() if row.cells]
+        if not rows:
+            return 0, 0
+        return max(rows), max(max(row.cells) for row in self.rows.values() if row.cells)
+
     def has_formula(self, row: int, col: int) -> bool:
-        cell = self.rows.get(row, _Row("")).cells.get(col)
-        return cell is not None and re.search(rf"<{re.escape(self.prefix)}f\b", cell) is not None
+        return (row, col) in self._formulas
 
     # ---------------------------------------------------------------------- writing
     def _value_xml(self, value: Any, formula: bool) -> tuple[str | None, str]:
@@ -157,15 +226,14 @@ class SheetXml:
     ) -> None:
         """Refresh a formula cell's cached value; for a spilling anchor set its ``ref``
         (and the dynamic-array cell-metadata index ``cm`` when given)."""
-        p = re.escape(self.prefix)
         cell = self.rows[row].cells[col]
         open_end = cell.index(">")
         self_closing = cell[open_end - 1] == "/"
         open_tag = cell[: open_end - 1 if self_closing else open_end]
         inner = "" if self_closing else cell[open_end + 1 : cell.rindex("<")]
-        fm = re.search(rf"<{p}f\b[^>]*?(?:/>|>.*?</{p}f>)", inner, re.S)
+        fm = self._pat["f_elem"].search(inner)
         f_xml = fm.group(0) if fm else ""
-        ext = re.search(rf"<{p}extLst\b.*?</{p}extLst>", inner, re.S)
+        ext = self._pat["ext"].search(inner)
         if spill_ref is not None and f_xml:
             ftag_end = f_xml.index(">")
             ftag = f_xml[:ftag_end]
@@ -202,6 +270,7 @@ class SheetXml:
             row_obj.cells[col] = f'<{pfx}c r="{_ref(row, col)}"{style}/>'
         else:
             row_obj.cells.pop(col, None)
+        self._formulas.discard((row, col))
         self._changed_rows.add(row)
 
     def render(self) -> str:
@@ -234,21 +303,43 @@ class SheetXml:
 class Package:
     """The parts of a workbook archive, read once; edits are collected, then written."""
 
-    def __init__(self, path: str | Path) -> None:
-        self.path = str(path)
-        with zipfile.ZipFile(self.path) as zf:
-            self.infos = zf.infolist()
-            self.data = {i.filename: zf.read(i) for i in self.infos}
+    def __init__(self, source: str | Path | Archive, limits: Limits = DEFAULT_LIMITS) -> None:
+        archive = source if isinstance(source, Archive) else read_archive(source, limits)
+        self.path = archive.path
+        self.infos = archive.infos
+        self.data = archive.data  # shared, never modified: edits go to ``replaced``
         self.replaced: dict[str, bytes] = {}
         self.sheet_paths = self._sheet_paths()
         self._sheets: dict[str, SheetXml] = {}
 
+    def copy(self) -> Package:
+        """An independent copy sharing the verified member bytes (sheets already parsed are
+        copied, not parsed again)."""
+        new = object.__new__(Package)
+        new.path, new.infos, new.data = self.path, self.infos, self.data
+        new.sheet_paths = self.sheet_paths
+        new.replaced = dict(self.replaced)
+        new._sheets = {k: v.copy() for k, v in self._sheets.items()}
+        return new
+
+    def parse_all(self) -> Package:
+        """Parse every worksheet now (so that copies share the work)."""
+        for name in self.sheet_paths:
+            self.sheet(name)
+        return self
+
+    def _xml(self, name: str) -> Any:
+        try:
+            return fromstring(self.data[name])
+        except Exception as exc:  # malformed XML in a part we need
+            raise WorkbookError(self.path, f"malformed XML: {exc}", name) from None
+
     def _sheet_paths(self) -> dict[str, str]:
-        wb = fromstring(self.data["xl/workbook.xml"])
+        wb = self._xml("xl/workbook.xml")
         rels_name = "xl/_rels/workbook.xml.rels"
         targets: dict[str, str] = {}
         if rels_name in self.data:
-            for rel in fromstring(self.data[rels_name]):
+            for rel in self._xml(rels_name):
                 t = rel.get("Target", "")
                 path = t.lstrip("/") if t.startswith("/") else str(PurePosixPath("xl") / t)
                 targets[rel.get("Id", "")] = os.path.normpath(path).replace(os.sep, "/")
@@ -265,8 +356,51 @@ class Package:
             part = self.sheet_paths.get(name)
             if part is None:
                 raise WorkbookError(self.path, f"no worksheet named {name!r}")
-            self._sheets[name] = SheetXml(self.data[part].decode("utf-8"), part)
+            try:
+                text = self.data[part].decode("utf-8")
+            except UnicodeDecodeError:
+                raise WorkbookError(self.path, "worksheet XML is not UTF-8", part) from None
+            self._sheets[name] = SheetXml(text, part)
         return self._sheets[name]
+
+    def defined_names(self) -> dict[str, tuple[str, str | None]]:
+        """Defined names (lower-cased) → (reference text, sheet of a sheet-local name)."""
+        wb = self._xml("xl/workbook.xml")
+        sheets = wb.find(f"{{{_NS_MAIN}}}sheets")
+        order = [s.get("name", "") for s in (sheets if sheets is not None else [])]
+        out: dict[str, tuple[str, str | None]] = {}
+        names = wb.find(f"{{{_NS_MAIN}}}definedNames")
+        for dn in names if names is not None else []:
+            local = dn.get("localSheetId")
+            scope = (
+                order[int(local)]
+                if local is not None and local.isdigit() and int(local) < len(order)
+                else None
+            )
+            out.setdefault((dn.get("name") or "").lower(), (dn.text or "", scope))
+        return out
+
+    def keep_cached_values_on_load(self) -> None:
+        """Make the copy's ``<calcPr>`` ask for no recalculation on load (see the module
+        docstring): drop ``fullCalcOnLoad``, raise ``calcId``."""
+        name = "xl/workbook.xml"
+        xml = self.replaced.get(name, self.data[name]).decode("utf-8")
+        m = re.search(r"<(\w+:)?calcPr\b[^>]*?/?>", xml)
+        if m is None:
+            return
+        tag = m.group(0)
+        new = re.sub(r'\sfullCalcOnLoad="[^"]*"', "", tag)
+        if re.search(r'\scalcId="', new):
+            new = re.sub(
+                r'\scalcId="(\d*)"',
+                lambda k: f' calcId="{max(int(k.group(1) or 0), int(CALC_ID))}"',
+                new,
+            )
+        else:
+            end = -2 if new.endswith("/>") else -1
+            new = new[:end] + f' calcId="{CALC_ID}"' + new[end:]
+        if new != tag:
+            self.replaced[name] = (xml[: m.start()] + new + xml[m.end() :]).encode("utf-8")
 
     # --------------------------------------------------------------- dynamic arrays
     def dynamic_array_cm(self, create: bool) -> str | None:
@@ -341,41 +475,104 @@ class Package:
         return members
 
     def write(self, out_path: str | Path) -> None:
+        self.keep_cached_values_on_load()
         write_atomic(out_path, self._members())
 
     def to_bytes(self) -> bytes:
+        """The package as archive bytes for the formula engine (stored, not compressed:
+        nothing is written to disk and inflating is work saved)."""
         buf = io.BytesIO()
-        with zipfile.ZipFile(buf, "w", zipfile.ZIP_DEFLATED) as zf:
+        with zipfile.ZipFile(buf, "w", zipfile.ZIP_STORED) as zf:
             for info, raw in self._members():
-                zf.writestr(info, raw)
+                name = info.filename if isinstance(info, zipfile.ZipInfo) else info
+                zf.writestr(name, raw)
         return buf.getvalue()
 
 
 def cells_of(ref: str) -> set[tuple[int, int]]:
     """Every (row, col) of an A1 range reference."""
-    from openpyxl.utils.cell import range_boundaries
-
     if not ref:
         return set()
-    c1, r1, c2, r2 = range_boundaries(ref)
+    r1, c1, r2, c2 = parse_range(ref)
     return {(r, c) for r in range(int(r1), int(r2) + 1) for c in range(int(c1), int(c2) + 1)}
+
+
+def fsync_dir(path: str | Path) -> None:
+    """Flush a directory entry (a new or renamed file) to disk; a no-op where the platform
+    cannot open directories (Windows)."""
+    try:
+        fd = os.open(str(path), os.O_RDONLY)
+    except OSError:
+        return
+    try:
+        os.fsync(fd)
+    except OSError:
+        pass
+    finally:
+        os.close(fd)
+
+
+_HINTS = {
+    errno.EISDIR: "it is a directory; give a file name",
+    errno.ENOTDIR: "a part of the path is a file, not a directory",
+    errno.EACCES: "no permission to write there; choose another place",
+    errno.EPERM: "no permission to write there; choose another place",
+    errno.EROFS: "the file system is read-only; choose another place",
+    errno.ENOSPC: "the disk is full; free some space and run again",
+    errno.EFBIG: "the disk is full or a file-size limit was reached; free space and run again",
+    errno.EDQUOT: "the disk quota is exhausted; free some space and run again",
+    errno.ENAMETOOLONG: "the file name is too long",
+    errno.EEXIST: "a part of the path exists and is not a directory",
+}
+
+
+def output_error(path: str | Path, exc: OSError, what: str = "cannot write") -> WorkbookError:
+    """A one-line error for a file that cannot be written, saying what to do."""
+    hint = _HINTS.get(exc.errno or 0, "")
+    reason = exc.strerror or str(exc)
+    return WorkbookError(str(path), f"{what}: {reason}" + (f" ({hint})" if hint else ""))
+
+
+def check_output_file(out_path: str | Path) -> None:
+    """Refuse, before any work, an output path that cannot be a new file."""
+    out = Path(out_path)
+    if out.is_dir():
+        raise WorkbookError(str(out), "is a directory; give a file name for the output")
+    for parent in out.parents:
+        if parent.exists():
+            if not parent.is_dir():
+                raise WorkbookError(
+                    str(out), f"cannot write there: {str(parent)!r} is a file, not a directory"
+                )
+            break
 
 
 def write_atomic(
     out_path: str | Path, members: Iterable[tuple[zipfile.ZipInfo | str, bytes]]
 ) -> None:
-    """Write a zip archive to a temporary file beside ``out_path``, then rename it."""
+    """Write a zip archive to a temporary file beside ``out_path``, flush it to disk, rename
+    it over ``out_path`` and flush the directory: a crash leaves the old file or the new one.
+    Any failure is one :class:`WorkbookError` and leaves nothing behind."""
     out = Path(out_path)
-    out.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{out.name}.", suffix=".tmp", dir=out.parent)
+    check_output_file(out)
+    tmp: str | None = None
     try:
-        with os.fdopen(fd, "wb") as fh, zipfile.ZipFile(fh, "w", zipfile.ZIP_DEFLATED) as zf:
-            for info, raw in members:
-                if isinstance(info, zipfile.ZipInfo):
-                    zf.writestr(info, raw, compress_type=info.compress_type)
-                else:
-                    zf.writestr(info, raw)
+        out.parent.mkdir(parents=True, exist_ok=True)
+        fd, tmp = tempfile.mkstemp(prefix=f".{out.name}.", suffix=".tmp", dir=out.parent)
+        with os.fdopen(fd, "wb") as fh:
+            with zipfile.ZipFile(fh, "w", zipfile.ZIP_DEFLATED) as zf:
+                for info, raw in members:
+                    if isinstance(info, zipfile.ZipInfo):
+                        zf.writestr(info, raw, compress_type=info.compress_type)
+                    else:
+                        zf.writestr(info, raw)
+            fh.flush()
+            os.fsync(fh.fileno())
         os.replace(tmp, out)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
+        tmp = None
+        fsync_dir(out.parent)
+    except OSError as exc:
+        raise output_error(out, exc) from None
+    finally:
+        if tmp is not None:
+            Path(tmp).unlink(missing_ok=True)
