@@ -24,6 +24,7 @@ from collections.abc import Sequence
 from typing import Any
 
 __all__ = [
+    "EXCEL_ERRORS",
     "InputError",
     "NetworkError",
     "SingularNetworkError",
@@ -33,6 +34,31 @@ __all__ = [
     "WorkbookError",
     "XlfuncsError",
 ]
+
+# The texts of Excel's error values, as xlwings (err_to_str) and the headless engine
+# deliver error cells (Excel's documented error values; #GETTING_DATA and the newer
+# dynamic-array and data-type errors included). One list for every reader of cells.
+EXCEL_ERRORS = frozenset(
+    {
+        "#NULL!",
+        "#DIV/0!",
+        "#VALUE!",
+        "#REF!",
+        "#NAME?",
+        "#NUM!",
+        "#N/A",
+        "#GETTING_DATA",
+        "#SPILL!",
+        "#CONNECT!",
+        "#BLOCKED!",
+        "#UNKNOWN!",
+        "#FIELD!",
+        "#CALC!",
+        "#BUSY!",
+        "#PYTHON!",
+        "#EXTERNAL!",
+    }
+)
 
 _MISSING = object()
 _MAX_QUOTE = 60  # longest quoted value in a message, in characters

@@ -7,8 +7,7 @@ from __future__ import annotations
 import math
 from typing import Any
 
-from ..errors import InputError
-from ..power.tables import EXCEL_ERRORS
+from ..errors import EXCEL_ERRORS, InputError
 from . import studies as _studies  # noqa: F401  (describes the shared `spectrum` argument)
 from .arguments import freeze, name_arg, num_arg, points_arg
 from .cache import solution

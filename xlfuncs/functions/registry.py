@@ -21,7 +21,7 @@ from collections.abc import Callable
 from dataclasses import dataclass, field
 from typing import Any, TypeVar
 
-from ..errors import InputError, XlfuncsError
+from ..errors import EXCEL_ERRORS, InputError, XlfuncsError
 from .cache import RESULTS, content_key, frozen_result
 
 __all__ = [
@@ -54,30 +54,6 @@ ARGS: dict[str, tuple[str, dict[str, Any]]] = {}
 # options in ARGS entries that are ours, not xlwings'
 OWN_OPTIONS = frozenset({"columns"})
 
-# The texts of Excel's error values, as xlwings (err_to_str) and the headless engine
-# deliver error cells (Excel's documented error values; #GETTING_DATA and the newer
-# dynamic-array and data-type errors included).
-EXCEL_ERRORS = frozenset(
-    {
-        "#NULL!",
-        "#DIV/0!",
-        "#VALUE!",
-        "#REF!",
-        "#NAME?",
-        "#NUM!",
-        "#N/A",
-        "#GETTING_DATA",
-        "#SPILL!",
-        "#CONNECT!",
-        "#BLOCKED!",
-        "#UNKNOWN!",
-        "#FIELD!",
-        "#CALC!",
-        "#BUSY!",
-        "#PYTHON!",
-        "#EXTERNAL!",
-    }
-)
 # Through COM an error cell is a VT_ERROR value 0x800A0000 + its CVErr number, and
 # xlwings translates only the first seven (its ``cell_errors`` table in _xlwindows.py);
 # the others reach us as that bare integer. CVErr numbers of the newer errors: from

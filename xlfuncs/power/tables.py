@@ -27,7 +27,7 @@ from dataclasses import dataclass, field
 from types import MappingProxyType
 from typing import Any
 
-from ..errors import InputError, TableError
+from ..errors import EXCEL_ERRORS, InputError, TableError
 from ..units import parse_number
 from .vector_group import VectorGroup, parse_vector_group
 
@@ -149,25 +149,6 @@ KINDS: dict[str, KindSpec] = {
 }
 _KIND_HELP = "expected one of " + ", ".join(KINDS)
 _SHUNT_CONNECTIONS = ("YN", "Y", "D")
-EXCEL_ERRORS = frozenset(
-    {
-        "#NULL!",
-        "#DIV/0!",
-        "#VALUE!",
-        "#REF!",
-        "#NAME?",
-        "#NUM!",
-        "#N/A",
-        "#GETTING_DATA",
-        "#SPILL!",
-        "#CALC!",
-        "#FIELD!",
-        "#BLOCKED!",
-        "#CONNECT!",
-        "#BUSY!",
-        "#UNKNOWN!",
-    }
-)
 
 
 # ------------------------------------------------------------------------------ records

@@ -101,17 +101,21 @@ def scan_blocks(f_stop: str, parts: str = "parts_tbl", key: str = "",
     )
 
 
+# columns of CKT_RESONANCES / CKT_BUS_RESONANCES
+RES_COLS = (
+    Col("kind", width=12),
+    Col("freq_hz", "hz"),
+    Col("order", "2"),
+    Col("z_ohm", "sig"),
+    Col("damping", "4"),
+    Col("q", "1"),
+)
+
+
 def resonance_block(f_stop: str, title: str) -> Block:
     return Block(
         "res", title, f'CKT_RESONANCES(parts_tbl,"BUS",f_hz,{f_stop},400,opts,sources_tbl)',
-        (
-            Col("kind", width=12),
-            Col("freq_hz", "hz"),
-            Col("order", "2"),
-            Col("z_ohm", "sig"),
-            Col("damping", "4"),
-            Col("q", "1"),
-        ),
+        RES_COLS,
         8,
     )
 
