@@ -62,6 +62,9 @@ def run(
     terminal's Ctrl-C does) or SIGKILL after the given seconds."""
 
     def limit() -> None:
+        # as a terminal's foreground job: SIGINT at its default disposition even when this
+        # campaign itself was started in the background with SIGINT ignored
+        signal.signal(signal.SIGINT, signal.SIG_DFL)
         if fsize is not None:
             resource.setrlimit(resource.RLIMIT_FSIZE, (fsize, fsize))
 

@@ -450,7 +450,14 @@ def test_ctrl_c_with_two_workers(tmp_path, clean_tpl):
     cases = _cases(tmp_path / "c.csv", rows)
     out = tmp_path / "o"
     args = ["batch", str(clean_tpl), str(cases), "-o", str(out), "-j", "2", "--no-progress"]
-    p = _cli([*args, "--collect", "Vout_rms"], start_new_session=True)
+    # A terminal's foreground job gets Ctrl-C with SIGINT at its default disposition; a
+    # suite started in the background (CI, `cmd &`) inherits SIGINT ignored, and Python
+    # then keeps it ignored, so the child is given the foreground disposition explicitly.
+    p = _cli(
+        [*args, "--collect", "Vout_rms"],
+        start_new_session=True,
+        preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL),
+    )
     _wait_for_records(out / "summary.journal", 2, p)
     os.killpg(p.pid, signal.SIGINT)  # as a terminal's Ctrl-C: the whole process group
     _out, err = p.communicate(timeout=120)
