@@ -260,6 +260,6 @@ def test_unknown_target_is_named():
     with pytest.raises(InputError) as exc:
         sol.signal("nope")
     assert str(exc.value) == (
-        "argument, column target: 'nope' — no part, source or node of that name; "
+        "argument target: 'nope' — no part, source or node of that name; "
         "nodes: a, GND; parts: R1, C1; sources: Vs"
     )

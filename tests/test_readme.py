@@ -68,11 +68,11 @@ def test_worked_example_tables_are_the_ones_computed():
     assert tones == TONES
     got = FUNCTIONS["CKT_SOLVE"].call(parts, [sources[0], *sources[1:]], "out")
     assert got[0] == spill[0] == ["freq_hz", "peak", "rms", "phase_deg"]
-    for row_readme, row_ours, (f, rms, ph) in zip(spill[1:4], got[1:4], TONES):
+    for row_readme, row_ours, (f, rms, ph) in zip(spill[1:4], got[1:4], TONES, strict=True):
         x = _closed_form(f, rms, ph)
         peak = abs(x)
         exact = [f, peak, peak if f == 0 else peak / math.sqrt(2), math.degrees(cmath.phase(x))]
-        for printed, ours, ref in zip(row_readme, row_ours, exact):
+        for printed, ours, ref in zip(row_readme, row_ours, exact, strict=True):
             assert ours == pytest.approx(ref, rel=1e-12, abs=1e-12)
             assert _printed_digits_agree(printed, ref), (printed, ref)
     total = spill[4]
@@ -83,8 +83,13 @@ def test_worked_example_tables_are_the_ones_computed():
     # the true peak: dense sampling of the closed-form waveform over the common period (20 ms)
     n = 200_000
     peak = max(
-        abs(sum((x := _closed_form(*t)).real * math.cos(2 * math.pi * t[0] * k * 0.02 / n)
-                - x.imag * math.sin(2 * math.pi * t[0] * k * 0.02 / n) for t in TONES))
+        abs(
+            sum(
+                (x := _closed_form(*t)).real * math.cos(2 * math.pi * t[0] * k * 0.02 / n)
+                - x.imag * math.sin(2 * math.pi * t[0] * k * 0.02 / n)
+                for t in TONES
+            )
+        )
         for k in range(0, n, 50)
     )
     assert _printed_digits_agree(total[1], peak)  # 4000 samples: within 1e-5 of the peak
@@ -101,7 +106,11 @@ def test_worked_example_scalars():
     assert FUNCTIONS["CKT_THD"].call(parts, sources, "out") == pytest.approx(thd, rel=1e-12)
     # power in R1: Σ |V_in − V_out|² / R over the tones (DC: none, C1 is open)
     p = sum(
-        abs((rms * math.sqrt(2) * cmath.exp(1j * math.radians(ph)) if f else rms) - _closed_form(f, rms, ph)) ** 2
+        abs(
+            (rms * math.sqrt(2) * cmath.exp(1j * math.radians(ph)) if f else rms)
+            - _closed_form(f, rms, ph)
+        )
+        ** 2
         / (R_OHM if f == 0 else 2 * R_OHM)
         for f, rms, ph in TONES
     )
@@ -113,11 +122,25 @@ def test_worked_example_scalars():
     assert msg in text and msg.startswith("ERROR: parts row 3, column value: '1q'")
 
 
-def test_python_blocks_run(capsys, monkeypatch, tmp_path):
-    monkeypatch.chdir(tmp_path)
+def _csv(path: Path) -> list[list[object]]:
+    import csv
+
+    with path.open(newline="", encoding="utf-8") as fh:
+        return [[c if c != "" else None for c in row] for row in csv.reader(fh)]
+
+
+def test_python_blocks_run(capsys):
     blocks = re.findall(r"```python\n(.*?)```", README, flags=re.S)
-    assert blocks
-    api = blocks[0]
+    (api,) = [b for b in blocks if b.startswith("import xlfuncs\n")]
     exec(compile(api, "README.md", "exec"), {})
     out = capsys.readouterr().out
     assert "13.53" in out and "0.1525" in out
+    # the three-phase snippet, on the invented plant of examples/power
+    (power,) = [b for b in blocks if "harmonic_study" in b]
+    demo = Path(__file__).resolve().parents[1] / "examples" / "power"
+    names = {
+        "equipment_rows": _csv(demo / "equipment.csv"),
+        "spectra_rows": _csv(demo / "spectra.csv"),
+    }
+    exec(compile(power, "README.md", "exec"), names)
+    assert names["st"].resonances("PCC")

@@ -98,7 +98,7 @@ def test_a_target_that_is_both_a_part_and_a_node_is_refused():
     with pytest.raises(InputError) as exc:
         sol.signal("SRC")
     msg = str(exc.value)
-    assert msg.startswith("argument, column target: 'SRC'")
+    assert msg.startswith("argument target: 'SRC'")
     assert "names both a part (parts row 2) and a node" in msg
     assert "'part:SRC'" in msg and "'node:SRC'" in msg
 
@@ -131,7 +131,7 @@ def test_unknown_names_suggest_the_closest():
         sol.signal("outt")
     msg = str(exc.value)
     assert msg == (
-        "argument, column target: 'outt' — no part, source or node of that name; "
+        "argument target: 'outt' — no part, source or node of that name; "
         "nodes: src, out, GND; parts: src, R2; sources: Vs; did you mean 'out'?"
     )
     assert isinstance(exc.value, KeyError)  # also a KeyError, for older callers

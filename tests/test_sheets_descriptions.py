@@ -68,7 +68,7 @@ def _call(name, f0, f1):
 
 
 def _refused(out, column):
-    return isinstance(out, str) and out.startswith(f"ERROR: argument, column {column}:")
+    return isinstance(out, str) and out.startswith(f"ERROR: argument {column}:")
 
 
 def _named(arg):

@@ -78,7 +78,7 @@ def test_error_cells_name_table_row_column_and_error(udf, error):
         f"ERROR: options row 1, column value: {error!r} — {ERROR_CELL}"
     )
     assert one(udf, "CKT_RMS", PARTS, SOURCES, code) == (
-        f"ERROR: argument, column target: {error!r} — {ERROR_CELL}"
+        f"ERROR: argument target: {error!r} — {ERROR_CELL}"
     )
     freqs = [[50.0, code]]  # a range without a header: columns are numbered
     out = call(udf, "CKT_IMPEDANCE", PARTS, "out", freqs)
@@ -88,7 +88,7 @@ def test_error_cells_name_table_row_column_and_error(udf, error):
 def test_an_error_cell_in_a_scalar_argument_is_not_the_default(udf):
     # without err_to_str an error cell given as `quantity` arrived as None: the default
     out = one(udf, "CKT_RMS", PARTS, SOURCES, "R1", COM_ERRORS["#N/A"])
-    assert out == f"ERROR: argument, column quantity: '#N/A' — {ERROR_CELL}"
+    assert out == f"ERROR: argument quantity: '#N/A' — {ERROR_CELL}"
 
 
 def test_error_text_is_refused_the_same_way_from_any_front_end():
@@ -194,7 +194,7 @@ def test_headless_skipped_argument_is_its_default(tmp_path):
         },
     )
     assert got["M2"] == pytest.approx(RMS_OUT, rel=1e-12)
-    if got["M1"] == "ERROR: argument, column quantity: 0.0 — expected V or I":
+    if got["M1"] == "ERROR: argument quantity: 0.0 — expected V or I":
         pytest.xfail(
             "the engine adapter still passes a skipped argument as 0.0, not None "
             "(CONTRACTS §4, workbooks stream)"

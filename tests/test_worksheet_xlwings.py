@@ -413,17 +413,17 @@ def test_single_cell_options_and_node_numbers(udf):
         (
             "CKT_RMS",
             (DIVIDER_PARTS, DIVIDER_SOURCES, "nowhere"),
-            "ERROR: argument, column target: 'nowhere' — no part, source or node of that name; nodes: in, out, GND; parts: R1, R2; sources: Vs",
+            "ERROR: argument target: 'nowhere' — no part, source or node of that name; nodes: in, out, GND; parts: R1, R2; sources: Vs",
         ),
         (
             "CKT_RMS",
             (DIVIDER_PARTS, DIVIDER_SOURCES, "out", "W"),
-            "ERROR: argument, column quantity: 'W' — expected V or I",
+            "ERROR: argument quantity: 'W' — expected V or I",
         ),
         (
             "CKT_SCAN",
             (DIVIDER_PARTS, "out", 100.0, 10.0),
-            "ERROR: argument, column f_stop: 10.0 — expected a frequency > f_start",
+            "ERROR: argument f_stop: 10.0 — expected a frequency > f_start",
         ),
         (
             "CKT_THD",

@@ -117,6 +117,8 @@ class InputError(XlfuncsError, ValueError):
 
     @property
     def where(self) -> str:
+        if self.table == "argument" and self.row is None and self.column is not None:
+            return f"argument {self.column}"  # a function's argument: "argument target"
         parts = [self.table]
         if self.row is not None:
             parts.append(f"row {self.row}")

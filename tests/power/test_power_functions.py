@@ -101,20 +101,20 @@ def test_studies_on_the_equipment_table():
         (("CKT_BUS_HARMONICS", None, None, "LV", OPTS), "ERROR: equipment table: no range given"),
         (("CKT_BUS_HARMONICS", "x", None, "LV", OPTS), "ERROR: equipment table: expected a range"),
         (("CKT_BUS_HARMONICS", None, None, "LV", None), "ERROR: options table: fundamental_hz"),
-        (("CKT_BUS_HARMONICS", "EQ", SPECTRA, "XX", OPTS), "ERROR: argument, column bus: 'XX'"),
-        (("CKT_EXPAND", "EQ", "pos2", OPTS), "ERROR: argument, column sequence: 'pos2'"),
+        (("CKT_BUS_HARMONICS", "EQ", SPECTRA, "XX", OPTS), "ERROR: argument bus: 'XX'"),
+        (("CKT_EXPAND", "EQ", "pos2", OPTS), "ERROR: argument sequence: 'pos2'"),
         (("CKT_BRANCH_HARMONICS", "EQ", SPECTRA, "C1", OPTS, "bus_to"), "bus_to only"),
         # IEEE 519 has editions 2014 and 2022; 2014.5 is no edition (was read as 2014)
         (
             ("CKT_BRANCH_I519", "EQ", SPECTRA, "U1", 8000, 50, OPTS, 2014.5),
-            "ERROR: argument, column edition: 2014.5",
+            "ERROR: argument edition: 2014.5",
         ),
         # Isc/IL below 1 is no short-circuit ratio (CKT_I519 refuses it the same way)
         (
             ("CKT_BRANCH_I519", "EQ", SPECTRA, "U1", 40, 50, OPTS),
-            "ERROR: argument, column i_sc: 40 — expected a short-circuit current ≥ i_l (50 A)",
+            "ERROR: argument i_sc: 40 — expected a short-circuit current ≥ i_l (50 A)",
         ),
-        (("CKT_BUS_RESONANCES", "EQ", "LV", 60, 3000, 0, None, OPTS), "column points: 0"),
+        (("CKT_BUS_RESONANCES", "EQ", "LV", 60, 3000, 0, None, OPTS), "argument points: 0"),
         (
             ("CKT_BUS_HARMONICS", "EQ#", SPECTRA, "LV", OPTS),
             "ERROR: equipment row 2, column kv: '#N/A' — the cell holds an Excel error",

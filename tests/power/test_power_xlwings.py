@@ -50,7 +50,7 @@ def test_an_error_cell_in_an_optional_column_is_refused(udf):
 def test_an_error_cell_as_a_name_argument_is_refused(udf):
     out = call(udf, "CKT_BRANCH_HARMONICS", excel(eq()), None, COM_ERRORS["#REF!"], excel(OPTS))
     text = out[0][0] if isinstance(out, list) else out
-    assert text == "ERROR: argument, column item: '#REF!' — the cell holds an Excel error"
+    assert text == "ERROR: argument item: '#REF!' — the cell holds an Excel error"
 
 
 def test_expand_through_xlwings_has_no_empty_cells(udf):

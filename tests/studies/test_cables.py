@@ -188,7 +188,7 @@ def test_worksheet_functions():
     assert out[0][:2] == ["order", "freq_hz"] and len(out) == 4
     assert out[1][7] == 1.0 and out[3][1] == 250.0
     err = FUNCTIONS["CKT_CABLE_RAC"].call(R_DC, 50, [[1], [7]], 1, 1, "3core", 18, 24)
-    assert err.startswith("ERROR: argument, column extrapolate") and "\n" not in err
+    assert err.startswith("ERROR: argument extrapolate") and "\n" not in err
     ok = FUNCTIONS["CKT_CABLE_RAC"].call(R_DC, 50, [[1], [7]], 1, 1, "3core", 18, 24, True)
     assert ok[2][8] == "proximity extrapolated (x_p > 2.8)"
     spec = [["order", "pct"], [1, 100], [5, 20], [0, 2]]
@@ -303,8 +303,8 @@ def test_study_cable_worksheet_function_and_refusals():
     bad = FUNCTIONS["CKT_ITEM_CABLE_LOSS"].call(
         _feeder(), None, "D1", R_DC, 1, 1, "none", STUDY_OPTS
     )
-    assert bad == "ERROR: argument, column item: 'D1' — 'D1' is a converter; expected a cable"
+    assert bad == "ERROR: argument item: 'D1' — 'D1' is a converter; expected a cable"
     bad = FUNCTIONS["CKT_ITEM_CABLE_LOSS"].call(
         _feeder(), None, "K1", R_DC, 1, 1, "3core", STUDY_OPTS
     )
-    assert bad.startswith("ERROR: argument, column d_c_mm")
+    assert bad.startswith("ERROR: argument d_c_mm")

@@ -315,7 +315,7 @@ def test_worksheet_sizing_functions_spill_their_tables():
     res = FUNCTIONS["CKT_FILTER_RESONANCE"].call("capacitor", 300, 480, 60, 3, 30, 1e4)
     assert res[1][0] == "parallel_order" and res[1][1] == pytest.approx(10.0, rel=1e-6)
     bad = FUNCTIONS["CKT_FILTER_RESONANCE"].call("notch", 300, 480, 60, 3, 30, 10)
-    assert bad.startswith("ERROR: argument, column filter_type: 'notch'")
+    assert bad.startswith("ERROR: argument filter_type: 'notch'")
 
 
 def test_command_line(tmp_path, capsys):
@@ -354,7 +354,7 @@ def test_error_cells_are_refused_not_read_as_blank():
         bad_range = call(udf, "CKT_CAP_STEP", 50.0, 3.0, 480.0, 60.0, 3.0, 30.0, 10.0, inj, 0.3)
     assert ok[1] == ["order_nominal", 4.7, "h"]
     cell = "the cell holds an Excel error"
-    assert bad == [[f"ERROR: argument, column c_tempco_ppm: '#N/A' — {cell}"]]
+    assert bad == [[f"ERROR: argument c_tempco_ppm: '#N/A' — {cell}"]]
     assert bad_range == [[f"ERROR: injected row 1, column 2: '#DIV/0!' — {cell}"]]
 
 
@@ -450,7 +450,7 @@ def test_study_filter_rating_worksheet_function_and_refusals():
     ]  # fmt: skip
     assert out[-1][0] == "basis" and "licensed engineer" in out[-1][1]
     bad = FUNCTIONS["CKT_ITEM_FILTER_RATING"].call(_filter_plant("Y"), None, "U1", STUDY_OPTS)
-    assert bad == "ERROR: argument, column item: 'U1' — 'U1' is a supply; expected a filter"
+    assert bad == "ERROR: argument item: 'U1' — 'U1' is a supply; expected a filter"
 
 
 @settings(max_examples=12, deadline=None)

@@ -163,7 +163,7 @@ def test_resistance_law_thermal_density():
 
 def test_refusals_name_the_argument():
     rc = [HEAD, ["R", "R", "in", "out", 1e3], ["C", "C", "out", "GND", 1e-9]]
-    with pytest.raises(InputError, match=r"column f_start.*1/f noise"):
+    with pytest.raises(InputError, match=r"argument f_start.*1/f noise"):
         noise_rms(
             rc,
             SUP,
@@ -174,16 +174,16 @@ def test_refusals_name_the_argument():
             noise_sources=[Noise(2, "in1", "I", "GND", "out", 1e-12, 10.0)],
         )
     divider = [HEAD, ["R1", "R", "in", "mid", 1e3], ["R2", "R", "mid", "GND", 1e3]]
-    with pytest.raises(InputError, match=r"column f_stop.*R1.*without roll-off"):
+    with pytest.raises(InputError, match=r"argument f_stop.*R1.*without roll-off"):
         noise_rms(divider, SUP, "mid", 0, math.inf, 25.0)
     law = [
         [*HEAD, "r_exponent"],
         ["R", "R", "in", "out", 1e3, 0.5],
         ["C", "C", "out", "GND", 1e-9, None],
     ]
-    with pytest.raises(InputError, match=r"column f_stop.*resistance law"):
+    with pytest.raises(InputError, match=r"argument f_stop.*resistance law"):
         noise_rms(law, SUP, "out", 1, math.inf, 25.0, options=[["fundamental_hz", 50]])
-    with pytest.raises(InputError, match=r"column temperature_c.*absolute zero"):
+    with pytest.raises(InputError, match=r"argument temperature_c.*absolute zero"):
         noise_rms(rc, SUP, "out", 1, 1e3, -300.0)
     with pytest.raises(InputError, match="nothing makes noise"):
         noise_rms(

@@ -292,7 +292,7 @@ def test_worksheet_function_rows_and_errors():
     err = FUNCTIONS["CKT_POWERS"].call(parts, src, "nope", opts)
     assert err.startswith("ERROR: ") and "nope" in err and "\n" not in err
     err = FUNCTIONS["CKT_POWERS"].call(parts, src, "R1", opts, "2ph")
-    assert err.startswith("ERROR: argument, column wiring: '2ph'")
+    assert err.startswith("ERROR: argument wiring: '2ph'")
 
 
 # ------------------------------------------------------------------- properties
@@ -358,7 +358,7 @@ def test_powers_through_the_xlwings_call_path():
     assert one_phase[1][:2] == ["P", pytest.approx((230**2 + 23**2) / 2, rel=1e-14)]
     assert four_wire[1][1] == pytest.approx(3 * one_phase[1][1], rel=1e-14)
     # the third harmonic is zero sequence: a three-wire item cannot carry it
-    assert three_wire[0][0].startswith("ERROR: argument, column wiring: '3ph3w'")
+    assert three_wire[0][0].startswith("ERROR: argument wiring: '3ph3w'")
 
 
 def test_docstring_examples_run():
@@ -513,7 +513,7 @@ def test_study_item_powers_refusals():
     with pytest.raises(InputError, match="bus_to only"):
         item_powers(st, "D1", "bus_to")
     out = FUNCTIONS["CKT_ITEM_POWERS"].call(PLANT, None, "#N/A", STUDY_OPTS)
-    assert out.startswith("ERROR: argument, column item: '#N/A'")
+    assert out.startswith("ERROR: argument item: '#N/A'")
     out = FUNCTIONS["CKT_ITEM_POWERS"].call(PLANT, None, "X9", STUDY_OPTS)
     assert out.startswith("ERROR: ") and "no item of that name" in out
 

@@ -59,7 +59,7 @@ def test_docstring_examples_run():
 
 def test_negative_input_resistance():
     assert negative_input_resistance(48.0, 200.0) == pytest.approx(-11.52, rel=1e-15)
-    with pytest.raises(InputError, match="column p_in"):
+    with pytest.raises(InputError, match="argument p_in"):
         negative_input_resistance(48.0, 0.0)
 
 
@@ -155,7 +155,7 @@ def test_worksheet_and_cli(capsys, tmp_path):
     assert d["margin_db"] == pytest.approx(6.0, abs=1e-8) and d["verdict"] == "PASS"
     assert "from memory" in d["source"]
     bad = FUNCTIONS["CKT_FILTER_MARGIN"].call(LC, "out", -48.0, 200.0, 10.0, 1e6)
-    assert bad.startswith("ERROR: argument, column v_in")
+    assert bad.startswith("ERROR: argument v_in")
     p, s = tmp_path / "p.csv", tmp_path / "s.csv"
     p.write_text("name,kind,from,to,value\nRs,R,in,a,0.02\nL,L,a,out,10u\nC,C,out,GND,100u\n")
     s.write_text("name,kind,from,to,freq_hz,peak\nVbus,V,in,GND,0,48\n")

@@ -104,5 +104,5 @@ def test_linearised_corners_beyond_twelve_parts():
 
 
 def test_bad_metric_is_named():
-    with pytest.raises(xlfuncs.InputError, match="argument, column metric: 'median'"):
+    with pytest.raises(xlfuncs.InputError, match="argument metric: 'median'"):
         tolerance_study(_divider(0.1, 0.1), SRC, target="out", metric="median", samples=10)

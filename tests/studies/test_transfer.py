@@ -142,7 +142,7 @@ def test_port_impedance_between_two_nodes():
     assert z == pytest.approx(100.0 + 1 / (1j * W * C), rel=1e-12)
     _f, z0 = port_impedance(parts, "b", "GND", F)
     assert z0 == pytest.approx(np.ones_like(W), rel=1e-12)  # the C-branch floats beyond b
-    with pytest.raises(InputError, match="column node_a: 'x' — no node of that name"):
+    with pytest.raises(InputError, match="argument node_a: 'x' — no node of that name"):
         port_impedance(parts, "x", "b", F)
 
 
@@ -167,14 +167,14 @@ def test_two_port_input_and_output_impedance():
 
 def test_bad_arguments_name_the_argument():
     with pytest.raises(
-        InputError, match=r"argument, column source: 'Vx' — no part, source or node of that name"
+        InputError, match=r"argument source: 'Vx' — no part, source or node of that name"
     ):
         bode(RC_PARTS, RC_SOURCES, "Vx", "out", 10, 100)
-    with pytest.raises(InputError, match=r"column output: 'nowhere'"):
+    with pytest.raises(InputError, match=r"argument output: 'nowhere'"):
         bode(RC_PARTS, RC_SOURCES, "Vin", "nowhere", 10, 100)
-    with pytest.raises(InputError, match=r"column f_stop"):
+    with pytest.raises(InputError, match=r"argument f_stop"):
         bode(RC_PARTS, RC_SOURCES, "Vin", "out", 10, 5)
-    with pytest.raises(InputError, match=r"column quantity"):
+    with pytest.raises(InputError, match=r"argument quantity"):
         bode(RC_PARTS, RC_SOURCES, "Vin", "out", 10, 100, quantity="I")
 
 
@@ -203,7 +203,7 @@ def test_worksheet_functions():
     )
     assert at(RC_PARTS, RC_SOURCES, "Vin", "out", 0.0, "real") == pytest.approx(1.0, rel=1e-15)
     assert at(RC_PARTS, RC_SOURCES, "Vin", "out", fc, "slope").startswith(
-        "ERROR: argument, column measure"
+        "ERROR: argument measure"
     )
     z = FUNCTIONS["CKT_PORT_Z"].call(RC_PARTS, "out", "GND", 10.0, 1e4, 3.0)
     assert z[0] == ["freq_hz", "z_ohm", "angle_deg", "r_ohm", "x_ohm"]
@@ -297,32 +297,31 @@ NAMED_PARTS = [HEAD, ["R", "R", "in", "out", R], ["C", "C", "out", "GND", C]]
     [
         (
             lambda: frequency_response(NAMED_PARTS, RC_SOURCES, "Vin", "outt", [50.0]),
-            "argument, column output: 'outt' — no part, source or node of that name; nodes: "
+            "argument output: 'outt' — no part, source or node of that name; nodes: "
             "in, out, GND; parts: R, C; sources: Vin; did you mean 'out'?",
         ),
         (
             lambda: frequency_response(NAMED_PARTS, RC_SOURCES, "Vinn", "out", [50.0]),
-            "argument, column source: 'Vinn' — no part, source or node of that name; nodes: "
+            "argument source: 'Vinn' — no part, source or node of that name; nodes: "
             "in, out, GND; parts: R, C; sources: Vin; did you mean 'Vin'?",
         ),
         (
             lambda: frequency_response(NAMED_PARTS, RC_SOURCES, "R", "out", [50.0]),
-            "argument, column source: 'R' — expected a source; 'R' is a part (parts row 2) "
-            "(sources: Vin)",
+            "argument source: 'R' — expected a source; 'R' is a part (parts row 2) (sources: Vin)",
         ),
         (
             lambda: port_impedance(NAMED_PARTS, "ot", "GND", [50.0]),
-            "argument, column node_a: 'ot' — no node of that name; nodes: in, out, GND; did "
+            "argument node_a: 'ot' — no node of that name; nodes: in, out, GND; did "
             "you mean 'out'?",
         ),
         (
             lambda: port_impedance(NAMED_PARTS, "out", "GNDD", [50.0]),
-            "argument, column node_b: 'GNDD' — no node of that name; nodes: in, out, GND; did "
+            "argument node_b: 'GNDD' — no node of that name; nodes: in, out, GND; did "
             "you mean 'GND'?",
         ),
         (
             lambda: two_port_impedances(NAMED_PARTS, "in", "out", "CC", [50.0]),
-            "argument, column load: 'CC' — no part, source or node of that name; nodes: in, "
+            "argument load: 'CC' — no part, source or node of that name; nodes: in, "
             "out, GND; parts: R, C; did you mean 'C'?",
         ),
     ],

@@ -285,11 +285,9 @@ def test_study_transformer_worksheet_function_and_refusals():
     for a, b in zip(out[1:-1], ref[1:-1], strict=True):
         assert a[1] == pytest.approx(b[1], rel=1e-12) if b[1] != "" else a[1] == ""
     bad = FUNCTIONS["CKT_ITEM_XFMR_DERATE"].call(eq, None, "D1", 0.1, OPTS)
-    assert (
-        bad == "ERROR: argument, column item: 'D1' — 'D1' is a converter; expected a transformer"
-    )
+    assert bad == "ERROR: argument item: 'D1' — 'D1' is a converter; expected a transformer"
     bad = FUNCTIONS["CKT_ITEM_XFMR_DERATE"].call(eq, None, "T1", "#N/A", OPTS)
-    assert bad.startswith("ERROR: argument, column p_ec_pu: '#N/A'")
+    assert bad.startswith("ERROR: argument p_ec_pu: '#N/A'")
 
 
 def test_study_derating_through_the_xlwings_call_path():
@@ -305,5 +303,5 @@ def test_study_derating_through_the_xlwings_call_path():
             udf, "CKT_ITEM_XFMR_DERATE", eq, MISSING, "T1", 0.1, opts, MISSING, COM_ERRORS["#REF!"]
         )
     assert ok[1][0] == "F_HL" and isinstance(ok[1][1], float)
-    assert bad == [["ERROR: argument, column p_osl_pu: '#N/A' — the cell holds an Excel error"]]
-    assert end[0][0].startswith("ERROR: argument, column winding_end: '#REF!'")
+    assert bad == [["ERROR: argument p_osl_pu: '#N/A' — the cell holds an Excel error"]]
+    assert end[0][0].startswith("ERROR: argument winding_end: '#REF!'")

@@ -497,8 +497,10 @@ def test_a_dead_worker_is_one_line_and_loses_nothing(setup, monkeypatch):
 def test_dask_cluster(setup):
     distributed = pytest.importorskip("distributed")
     tpl, cases, out = setup
+    # ":0": any free port for the dashboard (None still binds the default 8787, and a busy
+    # 8787 then fails the start-up through a warning)
     with distributed.LocalCluster(
-        n_workers=1, threads_per_worker=1, processes=True, dashboard_address=None
+        n_workers=1, threads_per_worker=1, processes=True, dashboard_address=":0"
     ) as cluster:
         rep = run_batch(
             tpl,

@@ -52,7 +52,7 @@ def test_values_spills_and_errors(book, tmp_path):
     assert ws["P1"].value == "#SPILL!"  # blocked spill
     assert ws["P2"].value == "in the way"
     assert ws["M5"].value == "#DIV/0!" and ws["M6"].value == "#DIV/0!"  # errors propagate
-    assert ws["M7"].value.startswith("ERROR: argument, column target: 'nowhere'")
+    assert ws["M7"].value.startswith("ERROR: argument target: 'nowhere'")
     assert ws["E2"].value == "3k"  # the --set input is written too
     assert rep.spills == 1 and "Net!P1: #SPILL!" in rep.errors
     assert len(rep.errors) == 4 and rep.errors[-1].startswith("Net!M7: ERROR: argument")
@@ -242,3 +242,29 @@ def test_cached_values_survive_opening(book, tmp_path):
     (calc,) = re.findall(r"<calcPr\b[^>]*/>", wb)
     assert "fullCalcOnLoad" not in calc
     assert int(re.search(r'calcId="(\d+)"', calc).group(1)) > 145621
+
+
+@pytest.mark.skipif(os.name != "posix", reason="POSIX permission bits")
+def test_output_files_get_the_umask_mode_or_keep_the_replaced_files_mode(book, tmp_path):
+    # POSIX: a new file is created 0o666 less the umask (open(2), common practice); a file
+    # replaced in place keeps its mode. mkstemp's private 0o600 must not leak into results.
+    fresh = tmp_path / "fresh.xlsx"
+    run = subprocess.run(
+        [sys.executable, "-m", "xlfuncs", "recalc", str(book), "-o", str(fresh)],
+        preexec_fn=lambda: os.umask(0o027),
+        capture_output=True,
+    )
+    assert run.returncode in (0, 1), run.stderr  # 1: written, the book holds error cells
+    assert fresh.stat().st_mode & 0o777 == 0o640
+    kept = tmp_path / "kept.xlsx"
+    kept.write_bytes(b"")
+    kept.chmod(0o604)
+    recalc(book, kept)
+    assert kept.stat().st_mode & 0o777 == 0o604
+    from xlfuncs.workbook.batch import _write_atomic_bytes
+
+    summary = tmp_path / "summary.csv"
+    summary.write_bytes(b"")
+    summary.chmod(0o664)
+    _write_atomic_bytes(summary, b"case\n")
+    assert summary.stat().st_mode & 0o777 == 0o664 and summary.read_bytes() == b"case\n"

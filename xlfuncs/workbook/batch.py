@@ -33,6 +33,7 @@ report.
 
 from __future__ import annotations
 
+import atexit
 import csv
 import hashlib
 import json
@@ -57,7 +58,7 @@ from typing import IO, Any
 
 from ..errors import WorkbookError, XlfuncsError
 from .engine import CellError
-from .package import fsync_dir, output_error
+from .package import fsync_dir, output_error, write_file_atomic
 from .recalc import PreparedBook, cell_error, parse_value
 
 __all__ = [
@@ -255,12 +256,12 @@ def _prepared(template: str, blob: bytes | None = None) -> PreparedBook:
         return _PREPARED[key]
     key = hashlib.sha256(blob).hexdigest()
     if key not in _PREPARED:
-        tmp = Path(tempfile.gettempdir()) / f"xlfuncs-template-{key[:16]}{Path(template).suffix}"
-        if not tmp.exists():
-            fd, part = tempfile.mkstemp(dir=tmp.parent, suffix=".part")
-            with os.fdopen(fd, "wb") as fh:
-                fh.write(blob)
-            os.replace(part, tmp)
+        # a private file of this process (mkstemp: created exclusively, mode 0600), never a
+        # predictable shared name another user could plant or leave unreadable
+        fd, tmp = tempfile.mkstemp(prefix="xlfuncs-template-", suffix=Path(template).suffix)
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(blob)
+        atexit.register(Path(tmp).unlink, missing_ok=True)
         _PREPARED[key] = PreparedBook(tmp)
     return _PREPARED[key]
 
@@ -445,21 +446,10 @@ class _Journal:
 
 
 def _write_atomic_bytes(path: Path, data: bytes) -> None:
-    tmp: str | None = None
-    try:
-        fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(data)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, path)
-        tmp = None
-        fsync_dir(path.parent)
-    except OSError as exc:
-        raise output_error(path, exc) from None
-    finally:
-        if tmp is not None:
-            Path(tmp).unlink(missing_ok=True)
+    def write(fh: IO[bytes]) -> None:
+        fh.write(data)
+
+    write_file_atomic(path, write)
 
 
 # ------------------------------------------------------------------ summaries

@@ -25,13 +25,14 @@ import io
 import math
 import os
 import re
+import stat
 import tempfile
 import zipfile
-from collections.abc import Iterable
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass, field
 from functools import lru_cache
 from pathlib import Path, PurePosixPath
-from typing import Any
+from typing import IO, Any
 from xml.sax.saxutils import escape, unescape
 
 from defusedxml.ElementTree import fromstring
@@ -547,26 +548,40 @@ def check_output_file(out_path: str | Path) -> None:
             break
 
 
-def write_atomic(
-    out_path: str | Path, members: Iterable[tuple[zipfile.ZipInfo | str, bytes]]
-) -> None:
-    """Write a zip archive to a temporary file beside ``out_path``, flush it to disk, rename
-    it over ``out_path`` and flush the directory: a crash leaves the old file or the new one.
-    Any failure is one :class:`WorkbookError` and leaves nothing behind."""
-    out = Path(out_path)
-    check_output_file(out)
+def _current_umask() -> int:
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
+
+
+# read once at import (reading it means setting it, which is not safe while other threads
+# create files); a process changes its umask rarely, and never in this package
+_UMASK = _current_umask()
+
+
+def _new_file_mode(path: Path) -> int:
+    """The mode a file written at ``path`` should have: the mode of the file it replaces,
+    else what ``open()`` would give (0o666 less the umask) — not ``mkstemp``'s 0o600."""
+    try:
+        return stat.S_IMODE(path.stat().st_mode)
+    except OSError:
+        return 0o666 & ~_UMASK
+
+
+def write_file_atomic(path: str | Path, write: Callable[[IO[bytes]], None]) -> None:
+    """Write a file through a temporary file beside ``path``: ``write(fh)`` fills it, then it
+    is flushed to disk, given the mode of the file it replaces (else the umask's default),
+    renamed over ``path`` and the directory flushed — a crash leaves the old file or the new
+    one. Any OS failure is one :class:`WorkbookError` and leaves nothing behind."""
+    out = Path(path)
     tmp: str | None = None
     try:
         out.parent.mkdir(parents=True, exist_ok=True)
         fd, tmp = tempfile.mkstemp(prefix=f".{out.name}.", suffix=".tmp", dir=out.parent)
         with os.fdopen(fd, "wb") as fh:
-            with zipfile.ZipFile(fh, "w", zipfile.ZIP_DEFLATED) as zf:
-                for info, raw in members:
-                    if isinstance(info, zipfile.ZipInfo):
-                        zf.writestr(info, raw, compress_type=info.compress_type)
-                    else:
-                        zf.writestr(info, raw)
+            write(fh)
             fh.flush()
+            os.chmod(tmp, _new_file_mode(out))
             os.fsync(fh.fileno())
         os.replace(tmp, out)
         tmp = None
@@ -576,3 +591,22 @@ def write_atomic(
     finally:
         if tmp is not None:
             Path(tmp).unlink(missing_ok=True)
+
+
+def write_atomic(
+    out_path: str | Path, members: Iterable[tuple[zipfile.ZipInfo | str, bytes]]
+) -> None:
+    """Write a zip archive atomically at ``out_path`` (:func:`write_file_atomic`), after
+    checking that the path can take a file."""
+    out = Path(out_path)
+    check_output_file(out)
+
+    def write(fh: IO[bytes]) -> None:
+        with zipfile.ZipFile(fh, "w", zipfile.ZIP_DEFLATED) as zf:
+            for info, raw in members:
+                if isinstance(info, zipfile.ZipInfo):
+                    zf.writestr(info, raw, compress_type=info.compress_type)
+                else:
+                    zf.writestr(info, raw)
+
+    write_file_atomic(out, write)
