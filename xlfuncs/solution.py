@@ -556,6 +556,12 @@ class ThdResult:
 
 
 # ------------------------------------------------------------------------------- spectrum
+# relative size (against the largest tone of the same signal) at or below which a tone is
+# zero to the accuracy of the solve (every answer's backward error is at most 1e-11, see
+# xlfuncs.solver), so that its phase is not reported
+PHASE_FLOOR = 1e-10
+
+
 class Spectrum:
     """Complex peak phasors of one or many signals over frequency.
 
@@ -599,8 +605,16 @@ class Spectrum:
 
     @property
     def phase_deg(self) -> np.ndarray:
-        """Phase of each tone in degrees, cosine reference; DC: 0 or 180."""
+        """Phase of each tone in degrees, cosine reference; DC: 0 or 180.
+
+        A tone that is zero to the solve's accuracy — at most ``PHASE_FLOOR`` (1e-10) times
+        the largest tone of the same signal, as a tone cancelled between two sources is —
+        has phase 0, as an exact zero has: its angle would be that of the rounding error.
+        """
         ph = np.degrees(np.angle(self.phasors))
+        mag = np.abs(self.phasors)
+        top = mag.max(axis=0, keepdims=True) if mag.size else mag
+        ph = np.where(mag <= PHASE_FLOOR * top, 0.0, ph)
         return np.where(self._is_dc, np.where(self.phasors.real < 0, 180.0, 0.0), ph)
 
     # ----------------------------------------------------------------- combined values
