@@ -231,7 +231,7 @@ def test_a_motor_with_a_running_load_draws_it_at_the_fundamental():
 
 
 def test_harmonic_angles_are_referred_to_the_converter_fundamental():
-    # the h-th current's angle is h·θ1 + phase_deg(h) (the convention; the ideal
+    # the h-th current's angle is h·θ1 + phase_deg(h) (the convention of docs/THREE_PHASE.md; the ideal
     # spectrum has 180° at k·p − 1 and 0° at k·p + 1)
     st = harmonic_study(plant(), options=plants.OPTIONS)
     d1 = st.branch_current("D1")

@@ -39,7 +39,9 @@ register_args(
             {},
         ),
         "options": (
-            "Optional two-column range key | value: ground, fundamental_hz, thd_max_order.",
+            "Two-column range key | value. Network functions (optional): ground, "
+            "fundamental_hz, thd_max_order. Equipment studies: fundamental_hz (required), "
+            "max_order (default 50).",
             {"ndim": 2, "columns": ("key", "value")},
         ),
         "points": (

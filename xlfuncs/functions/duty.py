@@ -11,7 +11,7 @@ from ..errors import EXCEL_ERRORS, InputError
 from . import studies as _studies  # noqa: F401  (describes the shared `spectrum` argument)
 from .arguments import freeze, name_arg, num_arg, points_arg
 from .cache import solution
-from .power import study_of  # (also describes equipment, spectra, item, study_options, branch_end)
+from .power import study_of  # (also describes equipment, spectra, item, options, branch_end)
 from .registry import register_args, sheet_function
 
 CAUTION = "Screening calculation: the makers, the utility and a licensed engineer decide."
@@ -554,12 +554,10 @@ def _optional_text(value: Any, column: str) -> str | None:
     "Bus voltage and line current into the item over every studied order; absorbed powers.",
     call_in_wizard=False,
 )
-def CKT_ITEM_POWERS(
-    equipment, spectra, item, study_options=None, branch_end=None, item_wiring=None
-):
+def CKT_ITEM_POWERS(equipment, spectra, item, options=None, branch_end=None, item_wiring=None):
     from ..studies.powers import item_powers
 
-    st = study_of(equipment, spectra, study_options)
+    st = study_of(equipment, spectra, options)
     return item_powers(
         st,
         _item(item),
@@ -577,11 +575,11 @@ def CKT_ITEM_POWERS(
     call_in_wizard=False,
 )
 def CKT_ITEM_XFMR_DERATE(
-    equipment, spectra, item, p_ec_pu, study_options=None, p_osl_pu=None, winding_end=None
+    equipment, spectra, item, p_ec_pu, options=None, p_osl_pu=None, winding_end=None
 ):
     from ..studies.transformer import item_derating
 
-    st = study_of(equipment, spectra, study_options)
+    st = study_of(equipment, spectra, options)
     posl = None if _blank(p_osl_pu) else num_arg(p_osl_pu, "p_osl_pu")
     return item_derating(
         st,
@@ -601,10 +599,10 @@ def CKT_ITEM_XFMR_DERATE(
     "unit, losses in R (three phases), basis. " + CAUTION,
     call_in_wizard=False,
 )
-def CKT_ITEM_FILTER_RATING(equipment, spectra, item, study_options=None):
+def CKT_ITEM_FILTER_RATING(equipment, spectra, item, options=None):
     from ..studies.filters import item_filter_rating
 
-    st = study_of(equipment, spectra, study_options)
+    st = study_of(equipment, spectra, options)
     return item_filter_rating(st, _item(item)).rows()
 
 
@@ -624,13 +622,13 @@ def CKT_ITEM_CABLE_LOSS(
     k_s,
     k_p,
     arrangement,
-    study_options=None,
+    options=None,
     d_c_mm=None,
     s_mm=None,
     extrapolate=None,
 ):
     from ..studies.cables import item_cable_loss
 
-    st = study_of(equipment, spectra, study_options)
+    st = study_of(equipment, spectra, options)
     conductor = _conductor(r_dc_ohm_km, k_s, k_p, arrangement, d_c_mm, s_mm, extrapolate)
     return item_cable_loss(st, _item(item), conductor).rows()

@@ -44,10 +44,6 @@ register_args(
             "Sequence network: + (positive), - (negative), 0 (zero), or fundamental.",
             {"err_to_str": True},
         ),
-        "study_options": (
-            "Two-column range key | value: fundamental_hz (required), max_order (default 50).",
-            {"ndim": 2, "err_to_str": True},
-        ),
         "branch_end": (
             "Optional: bus (default) or bus_to, the end of a transformer or cable; for a "
             "neutral current the winding of a YNyn transformer.",
@@ -112,8 +108,8 @@ def _end(value: Any) -> str | None:
     "in v_rms, THD (%) in v_pct over orders 2..max_order. Balanced screening model.",
     call_in_wizard=False,
 )
-def CKT_BUS_HARMONICS(equipment, spectra, bus, study_options=None):
-    st = study_of(equipment, spectra, study_options)
+def CKT_BUS_HARMONICS(equipment, spectra, bus, options=None):
+    st = study_of(equipment, spectra, options)
     from ..power.views import bus_table
 
     return bus_table(st, _name(bus, "bus"))
@@ -126,8 +122,8 @@ def CKT_BUS_HARMONICS(equipment, spectra, bus, study_options=None):
     "i_rms, THD (%) in i_pct (empty without a fundamental current).",
     call_in_wizard=False,
 )
-def CKT_BRANCH_HARMONICS(equipment, spectra, item, study_options=None, branch_end=None):
-    st = study_of(equipment, spectra, study_options)
+def CKT_BRANCH_HARMONICS(equipment, spectra, item, options=None, branch_end=None):
+    st = study_of(equipment, spectra, options)
     from ..power.views import branch_table
 
     return branch_table(st, _name(item, "item"), _end(branch_end) or "bus")
@@ -140,8 +136,8 @@ def CKT_BRANCH_HARMONICS(equipment, spectra, item, study_options=None, branch_en
     "current; last row total RMS.",
     call_in_wizard=False,
 )
-def CKT_NEUTRAL_HARMONICS(equipment, spectra, item, study_options=None, branch_end=None):
-    st = study_of(equipment, spectra, study_options)
+def CKT_NEUTRAL_HARMONICS(equipment, spectra, item, options=None, branch_end=None):
+    st = study_of(equipment, spectra, options)
     from ..power.views import neutral_table
 
     return neutral_table(st, _name(item, "item"), _end(branch_end))
@@ -153,11 +149,11 @@ def CKT_NEUTRAL_HARMONICS(equipment, spectra, item, study_options=None, branch_e
     "zone_shift_deg (frame of the part's zone), item and note, in ohms, henries, farads at "
     "each item's own voltage; ground node GND.",
 )
-def CKT_EXPAND(equipment, sequence, study_options=None):
+def CKT_EXPAND(equipment, sequence, options=None):
     from ..power import expand_network, parse_sequence
 
     seq = parse_sequence(_name(sequence, "sequence") if isinstance(sequence, str) else sequence)
-    table = expand_network(equipment, seq, study_options)
+    table = expand_network(equipment, seq, options)
     if len(table) == 1:
         return [
             table[0],
@@ -188,8 +184,8 @@ def _check_rows(check: Any, st: HarmonicStudy) -> list[list[Any]]:
     "verdict, basis. Screening check; the utility and local rules decide.",
     call_in_wizard=False,
 )
-def CKT_BUS_V519(equipment, spectra, bus, study_options=None):
-    st = study_of(equipment, spectra, study_options)
+def CKT_BUS_V519(equipment, spectra, bus, options=None):
+    st = study_of(equipment, spectra, options)
     return _check_rows(st.check_voltage(_name(bus, "bus")), st)
 
 
@@ -199,10 +195,10 @@ def CKT_BUS_V519(equipment, spectra, bus, study_options=None):
     "Isc/IL = i_sc / i_l, kV from the equipment.",
     call_in_wizard=False,
 )
-def CKT_BRANCH_I519(equipment, spectra, item, i_sc, i_l, study_options=None, edition=None):
+def CKT_BRANCH_I519(equipment, spectra, item, i_sc, i_l, options=None, edition=None):
     isc, il = currents_arg(i_sc, i_l)
     ed = edition_arg(edition)
-    st = study_of(equipment, spectra, study_options)
+    st = study_of(equipment, spectra, options)
     return _check_rows(st.check_current(_name(item, "item"), il, isc, edition=ed), st)
 
 
@@ -213,8 +209,8 @@ def CKT_BRANCH_I519(equipment, spectra, item, i_sc, i_l, study_options=None, edi
     "kv (delta); limits 1.10, 1.20, 1.35, 1.35 (IEEE Std 18-2002).",
     call_in_wizard=False,
 )
-def CKT_ITEM_CAPDUTY(equipment, spectra, item, study_options=None):
-    st = study_of(equipment, spectra, study_options)
+def CKT_ITEM_CAPDUTY(equipment, spectra, item, options=None):
+    st = study_of(equipment, spectra, options)
     return st.capacitor_duty(_name(item, "item")).table()
 
 
@@ -232,15 +228,13 @@ def _seq(value: Any) -> str:
     "converters open, supplies as their impedance.",
     call_in_wizard=False,
 )
-def CKT_BUS_SCAN(
-    equipment, bus, f_start, f_stop, points=None, scan_sequence=None, study_options=None
-):
+def CKT_BUS_SCAN(equipment, bus, f_start, f_stop, points=None, scan_sequence=None, options=None):
     from ..power import sequence_impedance
     from ..views import scan_freqs, scan_table
 
     f = scan_freqs(f_start, f_stop, points_arg(points))
     freqs, z = sequence_impedance(
-        freeze(equipment), _name(bus, "bus"), f, _seq(scan_sequence), freeze(study_options)
+        freeze(equipment), _name(bus, "bus"), f, _seq(scan_sequence), freeze(options)
     )
     return scan_table(freqs, z)
 
@@ -255,7 +249,7 @@ def CKT_BUS_SCAN(
     call_in_wizard=False,
 )
 def CKT_BUS_RESONANCES(
-    equipment, bus, f_start, f_stop, points=None, scan_sequence=None, study_options=None
+    equipment, bus, f_start, f_stop, points=None, scan_sequence=None, options=None
 ):
     from ..power import sequence_resonances
 
@@ -267,7 +261,7 @@ def CKT_BUS_RESONANCES(
         num_arg(f_stop, "f_stop"),
         _seq(scan_sequence),
         400 if n is None else n,
-        freeze(study_options),
+        freeze(options),
     )
     return resonance_table(res)
 
