@@ -325,12 +325,41 @@ def test_no_capacitor_bank_is_the_base_case(name, steps, tmp_path):
         pb.engine.set_value(sheet, r, c, default)
         pb.engine.evaluate()
     _assert_honest(rows, TEMPLATES[name].checks)
+    bank = f"{steps}>0"
     for (value, _rule, _limit, result), chk in zip(rows, TEMPLATES[name].checks, strict=True):
-        if chk.label.startswith("Capacitor") and "rise" not in chk.label:
+        if chk.label.startswith("Capacitor") or chk.applies == bank:
             assert result == "n/a" and value == "n/a", chk.label
         elif chk.applies is None:
             assert isinstance(value, float), chk.label
     assert "ERROR" not in [x[3] for x in rows]
+
+
+def test_detuned_checks_of_the_bank_do_not_apply_without_one(tmp_path):
+    """bank_steps = 0: no filter, so neither its tuning nor its capacitor voltage is checked;
+    the verdict rests on the bus voltage checks alone (headless recalculation with --set)."""
+    from xlfuncs.workbook import recalc
+
+    name = "detuned_filter.xlsx"
+    t = TEMPLATES[name]
+    out = tmp_path / name
+    assert recalc(TPL / name, out, {"bank_steps": 0}).errors == []
+    ws = openpyxl.load_workbook(out, data_only=True)["Checks"]
+    rows = {ws.cell(r, 1).value: [ws.cell(r, c).value for c in (2, 4, 6)] for r in range(1, 40)}
+    for label in ("Tuned order below the lowest injected order",
+                  "Capacitor voltage with the rise / rated"):  # fmt: skip
+        assert rows[label] == ["n/a", "n/a", "n/a"], label
+    counted = [rows[c.label][2] for c in t.checks if rows[c.label][2] != "n/a"]
+    assert counted and all(c.applies is None for c in t.checks if rows[c.label][2] != "n/a")
+    assert _named(out)["verdict"] == ("PASS" if set(counted) == {"PASS"} else "FAIL")
+    # the Scenarios columns with 0 steps (S1, S2) say the same
+    sc = _book(name)["Scenarios"]
+    head = next(r for r in range(1, 40) if sc.cell(r, 1).value == "check")
+    zero = [c for c in range(3, 13) if sc.cell(head + 1, c).value == 0]
+    assert len(zero) == 2
+    for r in range(head + 3, head + 3 + len(t.checks)):
+        if sc.cell(r, 1).value in ("Tuned order below the lowest injected order",
+                                   "Capacitor voltage with the rise / rated"):  # fmt: skip
+            assert [sc.cell(r, c).value for c in zero] == ["n/a", "n/a"]
 
 
 @pytest.mark.parametrize("name", sorted(TEMPLATES))

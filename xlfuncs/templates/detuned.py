@@ -113,9 +113,11 @@ RESULTS = (
 
 CHECKS = (
     Check("Tuned order below the lowest injected order", "=tuned_order", "=MIN(drive_orders)",
-          "h", "common practice: detune below the 5th for six-pulse drives", rule="<", fmt="3"),
+          "h", "common practice: detune below the 5th for six-pulse drives", rule="<",
+          applies=WHEN, fmt="3"),
     Check("Capacitor voltage with the rise / rated", "=v_cap_ll/cap_v_rated", "=1.1", "ratio",
-          "IEEE Std 18-2002: 110 % of rated RMS voltage (fundamental only here)", fmt="3"),
+          "IEEE Std 18-2002: 110 % of rated RMS voltage (fundamental only here)", applies=WHEN,
+          fmt="3"),
     *cm.duty_checks(WHEN),
     Check("Series resonance vs 1/√p", "=ABS(series_order/tuned_order-1)*100", "=1", "%",
           "consistency of the network with the sizing (closed form 1/√p)", applies=WHEN,
