@@ -429,6 +429,40 @@ def test_scenarios_cover_every_step_and_level():
         assert {ws.cell(row, c).value for c in range(3, 13)} == want
 
 
+@pytest.mark.parametrize("name", sorted(n for n, t in TEMPLATES.items() if t.scenarios))
+def test_worst_in_names_the_scenario_that_holds_the_worst_value(name):
+    """Every check row of the Scenarios sheet: "worst" is the max (≤ rules) or min (≥) of
+    the row's numbers, "worst in" names a scenario holding exactly that number, and the
+    outline marks that scenario's cell (differences of 1e-13 % included: no tolerance)."""
+    t = TEMPLATES[name]
+    ws, wf = _book(name)["Scenarios"], _book(name, False)["Scenarios"]
+    head = next(r for r in range(1, 40) if ws.cell(r, 1).value == "check")
+    heads = {ws.cell(head, c).value: c for c in range(1, ws.max_column + 1)}
+    cols = [c for h, c in heads.items() if re.fullmatch(r"S\d+", str(h))]
+    first = head + 1 + len(t.scenarios.sweeps)
+    rules = {str(cf.sqref): [r.formula[0] for r in cf.rules] for cf in wf.conditional_formatting}
+    spread = 0
+    for i, chk in enumerate(t.checks):
+        r = first + i
+        assert ws.cell(r, 1).value == chk.label
+        nums = [ws.cell(r, c).value for c in cols if isinstance(ws.cell(r, c).value, float)]
+        worst, where = ws.cell(r, heads["worst"]).value, ws.cell(r, heads["worst in"]).value
+        if not nums:
+            assert (worst, where) == ("—", "—"), chk.label
+            continue
+        want = min(nums) if chk.rule.startswith(">") else max(nums)
+        assert worst == want, chk.label
+        assert ws.cell(r, heads[where]).value == want, (chk.label, where)
+        spread += len(set(nums)) > 1
+        a, b = (
+            openpyxl.utils.get_column_letter(cols[0]),
+            openpyxl.utils.get_column_letter(cols[-1]),
+        )
+        outline = f"{a}${head}=${openpyxl.utils.get_column_letter(heads['worst in'])}${r}"
+        assert outline in rules[f"{a}{r}:{b}{r}"], chk.label
+    assert spread >= 2  # the rows differ between scenarios: the test can tell them apart
+
+
 def test_a_new_template_costs_a_description(tmp_path):
     """The format's own example (package docstring): a description builds and checks."""
     from xlfuncs.templates import build

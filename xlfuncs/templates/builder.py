@@ -815,17 +815,25 @@ def _scenarios(book: Book, page: Page, cases: Page) -> None:
         span = f"{_a1(v_row, 2)}:{_a1(v_row, last)}"
         worst = "MIN" if chk.rule.startswith(">") else "MAX"
         page.put(v_row, 2 + n, f'=IF(COUNT({span})=0,"—",{worst}({span}))', "calc", chk.fmt)
-        heads = f"{_a1(rows['value'] - len(sc.sweeps) - 1, 2)}:{_a1(rows['value'] - len(sc.sweeps) - 1, last)}"
-        page.put(v_row, 3 + n, f'=IFERROR(INDEX({heads},MATCH({_a1(v_row, 2 + n)},{span},0)),"—")')
-        x, res = _a1(v_row, 2, False), _a1(r_row, 2, False).replace("$", "")
-        page.ws.conditional_format(
+        head_row = rows["value"] - len(sc.sweeps) - 1
+        heads = f"{_a1(head_row, 2)}:{_a1(head_row, last)}"
+        # the first scenario whose value equals the worst by the = operator (exact for
+        # numbers, FALSE for text): MATCH(…,0) compares numbers within a tolerance in some
+        # engines, and tiny differences between two methods would all name the first
+        is_worst = f"{span}={_a1(v_row, 2 + n)}"
+        page.put(
+            v_row, 3 + n, f'=IFERROR(INDEX({heads},MATCH(TRUE,{is_worst},0)),"—")', array=True
+        )
+        res = _a1(r_row, 2, False).replace("$", "")
+        head = f"{get_column_letter(3)}${head_row + 1}"  # the scenario's name, row fixed
+        page.ws.conditional_format(  # outline the scenario named in "worst in", only it
             v_row,
             2,
             v_row,
             last,
             {
                 "type": "formula",
-                "criteria": f"=AND(ISNUMBER({x}),{x}={_a1(v_row, 2 + n)})",
+                "criteria": f"={head}={_a1(v_row, 3 + n)}",
                 "format": book.fmt("worst"),
             },
         )
