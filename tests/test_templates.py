@@ -140,6 +140,27 @@ def test_sheets_carry_demo_marking_cautions_and_document_line(name):
     assert len(wb["Network"].tables) == 2  # parts and sources as Excel Tables
 
 
+@pytest.mark.parametrize("name", sorted(TEMPLATES))
+def test_sign_off_placeholders_read_not_signed(name):
+    """A placeholder name or date must not read as accepted: "not signed", without making
+    the demo's verdict INVALID INPUT; a name typed in reads "signed"."""
+    ws = _book(name)["Cover"]
+    status = {ws.cell(r, 1).value: (ws.cell(r, 2).value, ws.cell(r, 4).value)
+              for r in range(1, 30)}  # fmt: skip
+    for label in ("Prepared", "Checked", "Date checked", "Approved", "Date approved"):
+        assert status[label][1] == "not signed", (label, status[label])
+    assert status["Project"][1] == "ok"
+    pb = _prepared(name)
+    assert pb.read("verdict") in ("PASS", "FAIL") and pb.read("inputs_invalid") == 0
+    sheet, r, c = pb.input_cell("checked_by")
+    pb.engine.set_value(sheet, r, c, "A. Checker")
+    pb.engine.evaluate()
+    got = pb.engine.value(sheet, r, c + 2)
+    pb.engine.set_value(sheet, r, c, "(name)")
+    pb.engine.evaluate()
+    assert got == "signed" and pb.engine.value(sheet, r, c + 2) == "not signed"
+
+
 # ------------------------------------------------------------------------ pages
 def _content_width_pt(ws) -> float:
     c1, _r1, c2, _r2 = range_boundaries(ws.print_area.split("!")[-1].replace("$", ""))
@@ -165,10 +186,10 @@ def test_print_setup_on_every_sheet(name):
         scale = (ps.scale or 100) / 100
         assert scale <= 1 and _content_width_pt(ws) * scale <= width_pt, ws.title
         _c1, _r1, _c2, r2 = range_boundaries(ws.print_area.split("!")[-1].replace("$", ""))
-        if ws.title in ("Data", "Cases"):  # long tables stay out of print
-            assert r2 <= 4
+        if ws.title in ("Data", "Cases"):  # long tables stay out of print and page counts:
+            assert r2 <= 4 and ws.sheet_state == "hidden"  # a hidden sheet does not print
         else:
-            assert r2 > 4
+            assert r2 > 4 and ws.sheet_state == "visible", ws.title
         if ws.title in ("Inputs", "Network", "Results", "Checks", "Scenarios"):
             assert landscape, ws.title
         # a manual break sits next to a blank spacer row: no table or chart is split

@@ -1,7 +1,7 @@
 """Render a :class:`~.model.Template` into a workbook (XlsxWriter).
 
 Sheets: Cover, Inputs, Network, Results, Charts, Checks, Scenarios (when described),
-Notes, then Data and Cases (long spilled tables, outside the print areas). Every sheet
+Notes, then Data and Cases (long spilled tables; hidden, so they do not print). Every sheet
 carries the title, the demo marking and the document line (project, document, revision,
 date) in rows 1–3, repeated on every printed page. Every cell is planned first and its
 formula rendered last, once every position is known; a scenario re-renders the formulas
@@ -273,6 +273,8 @@ class Page:
         ws.set_print_scale(scale)
         if self.printed:
             ws.set_h_pagebreaks(self._breaks(page_h * 100 / scale * 0.985))
+        else:  # hidden sheets do not print and count in no page total; charts still plot
+            ws.hide()
 
     def _breaks(self, cap: float) -> list[int]:
         """Manual page breaks so that no kept item straddles two pages."""
@@ -583,7 +585,7 @@ def _results(book: Book, page: Page) -> None:
 
 
 def _data(book: Book, page: Page) -> None:
-    page.head(f"{book.t.title} — long tables behind the charts (not printed)")
+    page.head(f"{book.t.title} — long tables behind the charts (hidden: not printed)")
     c, page.row = 0, 6
     for blk in book.t.data:
         page.put(4, c, blk.title, "section")
@@ -894,8 +896,18 @@ TITLE_BLOCK = (
     ("doc_date", "Date", "2026-01-01"),
     ("prepared_by", "Prepared", "(name)"),
     ("checked_by", "Checked", "(name)"),
+    ("checked_date", "Date checked", "(date)"),
     ("approved_by", "Approved", "(name)"),
+    ("approved_date", "Date approved", "(date)"),
 )
+SIGN_OFF = "not signed"  # a sign-off field still blank or holding its placeholder
+
+
+def _sign_status(rule: Rule, ref: str, placeholder: str) -> str:
+    """An accepted sign-off field reads "signed" only once a name or date replaces the
+    placeholder; the placeholder or a blank reads "not signed" (not an input error)."""
+    empty = f'OR(TRIM({ref})="",{ref}="{placeholder}")'
+    return f'=IF({rule.ok_formula(ref)},IF({empty},"{SIGN_OFF}","signed"),"expects {rule.describe()}")'
 
 
 def _cover(book: Book, page: Page) -> None:
@@ -914,10 +926,21 @@ def _cover(book: Book, page: Page) -> None:
         page.put(r, 0, label)
         page.ws.merge_range(r, 1, r, 2, default, book.fmt("input"))
         _validate(book, page, r, 1, rule, label, name, "")
-        page.put(r, 3, _status(rule, _a1(r, 1, False)))
+        signs = name.startswith(("prepared", "checked", "approved"))
+        ref = _a1(r, 1, False)
+        page.put(r, 3, _sign_status(rule, ref, default) if signs else _status(rule, ref))
         book.name(name, page, r, 1)
         page.row += 1
     page.keep.append((page.row - len(TITLE_BLOCK) - 1, page.row - 1))
+    page.ws.conditional_format(
+        f"{_a1(page.row - len(TITLE_BLOCK), 3, False)}:{_a1(page.row - 1, 3, False)}",
+        {
+            "type": "text",
+            "criteria": "begins with",
+            "value": SIGN_OFF,
+            "format": book.wb.add_format({"bg_color": VERDICT_FILL["ERROR"]}),
+        },
+    )
     page.row += 1
     page.title("Overall verdict")
     page.put(page.row, 0, "all checks (details on the Checks sheet)")
@@ -983,7 +1006,7 @@ def build(t: Template, path: Path) -> None:
     _checks(book, pages["Checks"])
     if t.scenarios:
         pages["Cases"].head(
-            f"{t.title} — one copy of the dependent calculation per scenario (not printed)"
+            f"{t.title} — one copy of the dependent calculation per scenario (hidden: not printed)"
         )
         _scenarios(book, pages["Scenarios"], pages["Cases"])
     _charts(book, pages["Charts"])

@@ -390,6 +390,7 @@ USING = (
     "kva in kVA, kvar in kvar, kw in kW, mva_sc in MVA) or carry their unit as text (480 V, "
     "13.8 kV, 2 MVA); a bare SI prefix (13.8k in a kV column) is refused as ambiguous. The "
     "inputs are plain numbers in the unit shown beside each.",
+    cm.HIDDEN,
 )
 NOT_COVERED = (
     "Balanced operation only: every harmonic order is one sequence; unbalance, single-phase "
