@@ -199,6 +199,45 @@ def test_print_setup_on_every_sheet(name):
             assert any(all(v is None for v in row) for row in rows), (ws.title, brk.id)
 
 
+def _width(ws, c: int) -> float:
+    """Column c's width in characters of text: one unit of Excel column width is the width
+    of a '0' (7 px in Calibri 11), ordinary text averages about 6 px a character (from
+    memory), so about 1.15 characters a unit."""
+    for d in ws.column_dimensions.values():
+        if d.min and d.max and d.min <= c <= d.max and d.width:
+            return d.width * 1.15
+    return 8.43 * 1.15  # Excel's default width
+
+
+@pytest.mark.parametrize("name", sorted(TEMPLATES))
+def test_no_printed_text_is_cut(name):
+    """Every text cell of the printed sheets (cached values: spilled text too) either wraps
+    in a row tall enough (12 pt a line at least, for an 11 pt font) or runs on into empty
+    cells inside the print area; a spilled "" is not empty, so a long basis line inside a
+    spill would be cut at its own column."""
+    wb = _book(name)
+    for ws in (wb[s] for s in PRINTED if s in wb.sheetnames):
+        _c1, _r1, c2, r2 = range_boundaries(ws.print_area.split("!")[-1].replace("$", ""))
+        merged = {(m.min_row, m.min_col): m for m in ws.merged_cells.ranges}
+        for row in ws.iter_rows(max_row=r2):
+            for c in row:
+                v = c.value
+                if not isinstance(v, str) or not v:
+                    continue
+                m = merged.get((c.row, c.column))
+                last = m.max_col if m else c.column
+                room = sum(_width(ws, k) for k in range(c.column, last + 1))
+                if c.alignment.wrap_text:
+                    lines = sum(math.ceil(len(p) / room) for p in v.split("\n"))
+                    height = ws.row_dimensions[c.row].height or 15
+                    assert height >= 12 * lines, (ws.title, c.coordinate, v[:40])
+                    continue
+                k = last + 1
+                while room < len(v) and k <= c2 and ws.cell(c.row, k).value is None:
+                    room, k = room + _width(ws, k), k + 1
+                assert room >= len(v), (ws.title, c.coordinate, v[:40])
+
+
 @pytest.mark.parametrize("name", sorted(TEMPLATES))
 def test_charts_are_whole_labelled_and_on_log_axes_where_they_span_decades(name):
     wb = _book(name, False)

@@ -320,6 +320,8 @@ class Book:
         self.later: list[Callable[[], None]] = []
         self.main = Binding()
         self.check_rows: list[int] = []
+        self.data: Page
+        self.data_col = 0
         self.docline = 'project&"  ·  document "&doc_no&"  ·  revision "&revision&"  ·  "&doc_date'
 
     def fmt(self, style: str, numfmt: str = "general") -> Any:
@@ -577,11 +579,45 @@ def _results(book: Book, page: Page) -> None:
             book.main.tables[item.name] = _table(book, page, item, book.main, page.row)
             page.keep.append((page.row - 1, page.row + len(item.rows)))
             page.row += len(item.rows) + 2
+        elif item.notes:
+            page.title(item.title)
+            _noted_block(book, page, item)
         else:
             page.title(item.title)
             book.main.blocks[item.key] = _block(book, page, item, book.main, page.row)
             page.keep.append((page.row - 1, page.row + item.rows - 1))
             page.row += item.rows + 1
+
+
+NOTE_ROWS = ("basis", "note")  # labels of the long text rows worksheet functions append
+
+
+def _noted_block(book: Book, page: Page, blk: Block) -> None:
+    """The full result on the Data sheet (every reference to the block means it); on the
+    page, its table rows without the text rows, then those as one line wrapped across the
+    block's columns."""
+    data, c = book.data, book.data_col
+    data.put(4, c, blk.title + " (in full)", "section")
+    full = book.main.blocks[blk.key] = _block(book, data, blk, book.main, 5, c)
+    book.data_col += len(blk.cols) + 1
+    data.row = max(data.row, 5 + blk.rows)
+    cell = full.anchor()
+    arr = f"_xlfn.ANCHORARRAY({cell})"
+    first = f"INDEX({arr},0,1)"
+    keep = "*".join(f'({first}<>"{w}")' for w in NOTE_ROWS)
+    told = "+".join(f'({first}="{w}")' for w in NOTE_ROWS)
+    # a result that did not spill (its one-line message, "n/a") is shown as it is
+    table = f"IF(ISERROR(ROWS({arr})),{cell},_xlfn._xlws.FILTER({arr},{keep}))"
+    view = Block(blk.key, blk.title, table, blk.cols, blk.rows, headed=blk.headed)
+    r0 = page.row
+    _block(book, page, view, book.main, r0)
+    r, c2 = r0 + blk.rows, len(blk.cols) - 1
+    lines = f'_xlfn._xlws.FILTER({first}&": "&INDEX({arr},0,2),{told})'
+    page.ws.merge_range(r, 0, r, c2, "", book.fmt("text"))
+    page.put(r, 0, f'=IFERROR(_xlfn.TEXTJOIN(CHAR(10),TRUE,{lines}),"")', "text", array=True)
+    page.wrapped.append((r, 0, c2, "x" * blk.notes))
+    page.keep.append((r0 - 1, r))
+    page.row = r + 2
 
 
 def _data(book: Book, page: Page) -> None:
@@ -592,6 +628,7 @@ def _data(book: Book, page: Page) -> None:
         book.main.blocks[blk.key] = _block(book, page, blk, book.main, 5, c)
         c += len(blk.cols) + 1
         page.row = max(page.row, 5 + blk.rows)
+    book.data, book.data_col = page, c  # the full results of noted blocks go on from here
 
 
 def _charts(book: Book, page: Page) -> None:

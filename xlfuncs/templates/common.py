@@ -152,6 +152,7 @@ LIVE = (
 )
 
 
+BASIS_CHARS = 170  # the basis line of an IEEE 519 table (bus voltage, Isc/IL, fundamental)
 V519_COLS = (Col("item", width=12), Col("percent", "2"), Col("limit_percent", "2", 14),
              Col("result", width=9))
 

@@ -106,7 +106,7 @@ RESULTS = (
     cm.vbus_block(),
     cm.harm_table(with_distance=False),
     Block("v519", "IEEE 519 voltage check at the bus", f'CKT_V519({ARGS},"BUS",v_ll/1000,opts)',
-          cm.V519_COLS, 13),
+          cm.V519_COLS, 13, notes=cm.BASIS_CHARS),
     cm.resonance_block("30*f_hz", "Resonances seen at the bus (supply source shorted)"),
     cm.duty_block("C_det", "bank_kvar/3", "cap_v_rated/SQRT(3)", WHEN),
 )

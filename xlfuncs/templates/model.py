@@ -168,7 +168,11 @@ class Table:
 @dataclass(frozen=True)
 class Block:
     """A spilled formula (usually one worksheet function): ``rows`` the most rows it
-    returns, header included, formatted and reserved; ``when`` shows "n/a" instead."""
+    returns, header included, formatted and reserved; ``when`` shows "n/a" instead.
+    ``notes`` > 0 on the Results sheet: the function's trailing "basis"/"note" rows (long
+    text) are shown below the table as one line wrapped across its columns, with room for
+    about that many characters; the full result is on the Data sheet, and references to
+    the block (``{key}``, ``{key:col}``, ``{key:@}``) mean the full result."""
 
     key: str
     title: str
@@ -177,6 +181,7 @@ class Block:
     rows: int
     when: str | None = None
     headed: bool = True  # False: the formula returns data rows only (a header is written)
+    notes: int = 0
 
 
 @dataclass(frozen=True)

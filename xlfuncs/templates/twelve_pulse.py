@@ -124,7 +124,8 @@ CANCEL = Table("cancel", "Harmonic currents per order: each transformer vs the c
 
 
 def _v519(key: str, bus: str, title: str) -> Block:
-    return Block(key, title, f'CKT_BUS_V519({EQ},"{bus}",{SO})', cm.V519_COLS, 13)
+    return Block(key, title, f'CKT_BUS_V519({EQ},"{bus}",{SO})', cm.V519_COLS, 13,
+                 notes=cm.BASIS_CHARS)
 
 
 def _vchecks(key: str, where: str) -> tuple[Check, ...]:
@@ -187,7 +188,7 @@ RESULTS = (
     harmonics_block("it2", "T2 line current, HV side", f'CKT_BRANCH_HARMONICS({EQ},"T2",{SO})',
                     N_ORD + 3, v=False),
     Block("i519", "IEEE 519 current check at the PCC (the common feeder's current)",
-          f'CKT_BRANCH_I519({EQ},"K1",isc_a,i_l,{SO})', cm.V519_COLS, 14),
+          f'CKT_BRANCH_I519({EQ},"K1",isc_a,i_l,{SO})', cm.V519_COLS, 14, notes=cm.BASIS_CHARS),
     harmonics_block("vpcc", "PCC voltage per order (line-to-neutral)",
                     f'CKT_BUS_HARMONICS({EQ},"PCC",{SO})', N_ORD + 3, v=True),
     _v519("v519", "PCC", "IEEE 519 voltage check at the PCC"),
