@@ -18,7 +18,18 @@ import pytest
 from openpyxl.utils.cell import range_boundaries
 
 from xlfuncs.templates import CAUTION, DEMO, TEMPLATES, build_all
-from xlfuncs.templates.model import Check, Col, Input, Result, Row, Section, Table, Template, num
+from xlfuncs.templates.model import (
+    Block,
+    Check,
+    Col,
+    Input,
+    Result,
+    Row,
+    Section,
+    Table,
+    Template,
+    num,
+)
 from xlfuncs.workbook import recalc
 from xlfuncs.workbook.recalc import PreparedBook
 
@@ -302,6 +313,39 @@ def test_dc_link_noise_floor():
     col = heads["v"]
     charted = [data.cell(r, col).value for r in range(7, 30) if data.cell(r, col).value]
     assert len(charted) == 12 and min(charted) >= 1e-12 * max(charted)
+
+
+# the continuous limits of IEEE Std 18-2002 are on rms voltage, peak voltage, rms current
+# (A) and reactive power (kvar); IEEE C57.110 states its loss factors as pure numbers
+DUTY = {"rms voltage": "V", "peak voltage": "V", "rms current": "A", "kvar": "kvar"}
+PURE = {"F_HL", "F_HL_STR", "K_factor", "capacitor verdict"}
+
+
+@pytest.mark.parametrize("name", sorted(TEMPLATES))
+def test_tables_of_mixed_quantities_give_each_row_its_unit(name):
+    """Duty, rating and derating tables: every row holding a number has a unit beside it
+    (the IEEE 18 rows the standard's own), and the "result" column holds verdicts only."""
+    t = TEMPLATES[name]
+    ws = _book(name)["Results"]
+    blocks = [b for b in t.results if isinstance(b, Block) and b.units]
+    titles = {ws.cell(r, 1).value: r for r in range(1, ws.max_row + 1)}
+    seen = 0
+    for blk in blocks:
+        head = titles[blk.title] + 1
+        cols = {ws.cell(head, c).value: c for c in range(1, len(blk.cols) + 2)}
+        assert cols.get("unit") == len(blk.cols) + 1, blk.key
+        for r in range(head + 1, head + blk.rows):
+            label, value = ws.cell(r, 1).value, ws.cell(r, 2).value
+            unit = ws.cell(r, cols["unit"]).value
+            if isinstance(value, float) and label not in PURE:
+                assert unit, (blk.key, label)
+                seen += 1
+            for word in ("rms voltage", "peak voltage", "rms current", "kvar"):
+                if label in (word, f"capacitor {word}"):
+                    assert unit == DUTY[word], (blk.key, label, unit)
+            if "result" in cols:
+                assert ws.cell(r, cols["result"]).value in (*VERDICTS, "", None), (blk.key, r)
+    assert seen >= 4 or not blocks
 
 
 # ------------------------------------------------------------------------ verdicts

@@ -46,6 +46,8 @@ FORMATS = {
     "deg": "0.0",
     "pct": "0.00",
     "thou": "#,##0",
+    # a positive quantity of any size: 1,439.8 · 189.0 · 3.780 · 0.070 · 8.221E-04
+    "qty": "[>=100]#,##0.0;[>=0.01]0.000;0.000E+00",
 }
 # cell styles (our own palette); every style is a plain XlsxWriter format description
 GREY = {"border": 1, "border_color": "#BBBBBB", "valign": "top"}
@@ -532,6 +534,16 @@ def _block(book: Book, page: Page, blk: Block, b: Binding, r0: int, c0: int = 0)
         page.put(r0, c, None if blk.headed else col.header, "head")
         for r in range(r0 + 1, r0 + blk.rows):
             page.put(r, c, None, "num", col.fmt)
+    if blk.units and page.printed:  # beside the spill: each row's unit from its label
+        u = c0 + len(blk.cols)
+        page.put(r0, u, "unit", "head")
+        page.need(u, max(len(x) for _, x in blk.units) + 2)
+        for r in range(r0 + 1, r0 + blk.rows):
+            label = _a1(r, c0, False)
+            pick = '""'
+            for name, unit in reversed(blk.units):
+                pick = f'IF({label}="{name}","{unit}",{pick})'
+            page.put(r, u, f'=IFERROR({pick},"")', "num")
     first = r0 if blk.headed else r0 + 1
     fmt = "general" if blk.headed else blk.cols[0].fmt
     page.put(
@@ -792,7 +804,7 @@ def _scenarios(book: Book, page: Page, cases: Page) -> None:
         axis.append([])
         for c, v in enumerate(s.values, 2):
             literal = not str(v).startswith("=")
-            page.put(page.row, c, v, "input" if literal else "calc")
+            page.put(page.row, c, v, "input" if literal else "calc", s.fmt)
             if literal:
                 _validate(book, page, page.row, c, inputs[s.input].rule, s.label, s.input, "")
             axis[-1].append(_a1(page.row, c))
@@ -823,7 +835,10 @@ def _scenarios(book: Book, page: Page, cases: Page) -> None:
             page.put(k, 0, label[k - page.row - 1], "wrapcell")
             page.put(k, 1, inputs[s.input].unit)
             for j, combo in enumerate(combos):
-                page.put(k, 2 + j, "=" + axis[k - page.row - 1][combo[k - page.row - 1]], "calc")
+                s_ = sc.sweeps[k - page.row - 1]
+                page.put(
+                    k, 2 + j, "=" + axis[k - page.row - 1][combo[k - page.row - 1]], "calc", s_.fmt
+                )
         rows[part] = page.row + 1 + len(sc.sweeps)
         if part == "value":
             sweep_cells = [

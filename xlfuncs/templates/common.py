@@ -55,6 +55,10 @@ OPTIONS = Table(
 )
 
 
+DUTY_UNITS = (("rms voltage", "V"), ("peak voltage", "V"), ("rms current", "A"),
+              ("kvar", "kvar"))
+
+
 def duty_block(part: str, kvar: str, volts: str, when: str) -> Block:
     return Block(
         "duty",
@@ -64,6 +68,7 @@ def duty_block(part: str, kvar: str, volts: str, when: str) -> Block:
          Col("limit", "2"), Col("pass")),
         6,
         when=when,
+        units=DUTY_UNITS,
     )
 
 

@@ -102,7 +102,7 @@ RESULTS = (
                f'=IF({WHEN},CKT_RMS({ARGS},"C_det","I",opts),"n/a")', "A", "1"),
     )),
     Block("det", "Reactor sizing for one step", "CKT_DETUNE(step_kvar,cap_v_rated,f_hz,p_ratio)",
-          (Col("quantity", width=22), Col("value", "sig"), Col("unit")), 10),
+          (Col("quantity", width=22), Col("value", "qty"), Col("unit")), 10),
     cm.vbus_block(),
     cm.harm_table(with_distance=False),
     Block("v519", "IEEE 519 voltage check at the bus", f'CKT_V519({ARGS},"BUS",v_ll/1000,opts)',

@@ -172,7 +172,8 @@ class Block:
     ``notes`` > 0 on the Results sheet: the function's trailing "basis"/"note" rows (long
     text) are shown below the table as one line wrapped across its columns, with room for
     about that many characters; the full result is on the Data sheet, and references to
-    the block (``{key}``, ``{key:col}``, ``{key:@}``) mean the full result."""
+    the block (``{key}``, ``{key:col}``, ``{key:@}``) mean the full result. ``units`` adds,
+    on a printed sheet, a "unit" column beside the spill: each row's unit by its label."""
 
     key: str
     title: str
@@ -182,6 +183,7 @@ class Block:
     when: str | None = None
     headed: bool = True  # False: the formula returns data rows only (a header is written)
     notes: int = 0
+    units: tuple[tuple[str, str], ...] = ()  # (row label, unit): a unit column on the page
 
 
 @dataclass(frozen=True)
@@ -237,6 +239,7 @@ class Sweep:
     label: str
     values: tuple[Any, ...]
     tags: tuple[str, ...] = ()
+    fmt: str = "general"  # the number format of the swept values (as the inputs show them)
 
 
 @dataclass(frozen=True)

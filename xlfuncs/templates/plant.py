@@ -240,6 +240,9 @@ HARM = Table("harm", "Harmonic table at the injected orders", (
 )) for k in range(N_ORD)), excel=False)
 
 DERATE_ROWS = 13  # header, the C57.110 factors, I_rms_a, I_rated_a, load_pu, load_over_I_max
+DERATE_UNITS = (("I_max_pu", "pu"), ("P_LL_pu", "pu"), ("P_LL_R_pu", "pu"),
+                ("I_equal_load_loss_pu", "pu"), ("Irms_over_I1", "ratio"), ("I_rms_a", "A"),
+                ("I_rated_a", "A"), ("load_pu", "pu"), ("load_over_I_max", "ratio"))
 
 
 def derating_block(key: str, item: str, title: str, when: str | None = None) -> Block:
@@ -247,7 +250,8 @@ def derating_block(key: str, item: str, title: str, when: str | None = None) -> 
     through it (its star winding), without the long basis row (the Notes carry it)."""
     return Block(key, title, head_rows(
         f'CKT_ITEM_XFMR_DERATE({EQ},"{item}",tx_pec_pu,{SO},tx_posl_pu)', DERATE_ROWS),
-        (Col("quantity", width=22), Col("value", "4", 14)), DERATE_ROWS, when=when)
+        (Col("quantity", width=22), Col("value", "qty", 14)), DERATE_ROWS, when=when,
+        units=DERATE_UNITS)
 
 
 RESULTS = (
@@ -329,7 +333,7 @@ RESULTS = (
     Block("duty", "Capacitor duty of one delta unit (IEEE Std 18-2002 continuous limits)",
           f'CKT_ITEM_CAPDUTY({EQ},"C1",{SO})',
           (Col("quantity", width=16), Col("value", "2"), Col("rated", "2"), Col("ratio", "3"),
-           Col("limit", "2"), Col("pass")), 6, when=BANK),
+           Col("limit", "2"), Col("pass")), 6, when=BANK, units=cm.DUTY_UNITS),
     derating_block("xfd", "T1", "Transformer derating for its harmonic load current (IEEE Std "
                    "C57.110, formulas from memory; I_max_pu for the winding hot spot)"),
 )
