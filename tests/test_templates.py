@@ -172,6 +172,29 @@ def test_sign_off_placeholders_read_not_signed(name):
     assert got == "signed" and pb.engine.value(sheet, r, c + 2) == "not signed"
 
 
+@pytest.mark.parametrize("name", sorted(TEMPLATES))
+def test_the_na_example_is_the_books_own(name):
+    """The Checks page and the Notes explain n/a with this book's checks: a book without a
+    capacitor bank does not speak of one, a book whose checks all apply says none reads n/a."""
+    t, wb = TEMPLATES[name], _book(name)
+    conditional = [c for c in t.checks if c.applies]
+    ws = wb["Checks"]
+    note = next(str(c.value) for row in ws.iter_rows() for c in row
+                if str(c.value).startswith("PASS only when"))  # fmt: skip
+    notes = " ".join(str(c.value) for row in wb["Notes"].iter_rows() for c in row if c.value)
+    has_bank = any(i.name.endswith("steps") for i in _inputs(t))
+    if not conditional:
+        assert "none reads n/a" in note
+    else:
+        assert t.na_example and t.na_example in note
+        for c in conditional:  # each condition's subject is in the example
+            if "steps" in c.applies:
+                assert "0 steps" in t.na_example, c.label
+    for text_ in (note, notes):
+        n_a = [s_ for s_ in re.split(r"(?<=[.;])\s", text_) if "n/a" in s_]
+        assert has_bank or not any("capacitor" in s_ for s_ in n_a), n_a
+
+
 # ------------------------------------------------------------------------ pages
 def _content_width_pt(ws) -> float:
     c1, _r1, c2, _r2 = range_boundaries(ws.print_area.split("!")[-1].replace("$", ""))

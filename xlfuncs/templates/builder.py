@@ -83,8 +83,7 @@ CHECK_COLS = (Col("check", width=38), Col("value", width=12), Col("", width=4),
 VERDICT_NOTE = (
     "PASS only when every check that applies is a number within its limit and every input is "
     "accepted; a check whose value is not a number reads ERROR and makes the verdict "
-    "INCOMPLETE; n/a marks a check that does not apply (for example capacitor duty without a "
-    "capacitor bank)."
+    "INCOMPLETE; "
 )
 AXIS = {"major_gridlines": {"visible": True, "line": {"color": "#DDDDDD", "width": 0.5}},
         "label_position": "low", "name_font": {"size": 9, "bold": False}, "num_font": {"size": 8}}
@@ -719,9 +718,17 @@ def _checks(book: Book, page: Page) -> None:
     page.height(r, 24)
     book.name("verdict", page, r, 5)
     r += 2
-    page.wrap(r, 0, 6, VERDICT_NOTE)
+    page.wrap(r, 0, 6, VERDICT_NOTE + _na_note(book.t))
     page.keep.append((top - 1, r))
     page.row = r + 1
+
+
+def _na_note(t: Template) -> str:
+    """What n/a means in this book: its own example, or that no check can read it."""
+    if not any(c.applies for c in t.checks):
+        return "every check of this book applies in every case, so none reads n/a."
+    example = f" (here: {t.na_example})" if t.na_example else ""
+    return f"n/a marks a check that does not apply{example}."
 
 
 def _needed(t: Template, swept: set[str]) -> set[str]:

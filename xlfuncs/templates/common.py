@@ -15,12 +15,17 @@ SCENARIO_NOTE = (
     "the inputs (the network, results and spilled studies of every column are on the hidden "
     "Cases sheet). The outlined value in each row is the worst case of that check."
 )
-VERDICTS = (
-    "A check reads PASS or FAIL only from numbers; a check whose value or limit is not a number "
-    "reads ERROR; n/a marks a check that does not apply (capacitor duty with 0 steps). The "
-    "overall verdict is PASS only when every applicable check passes and every input is "
-    "accepted; otherwise FAIL, INCOMPLETE or INVALID INPUT.",
-)
+
+
+def verdicts(na_example: str) -> tuple[str, ...]:
+    """The Notes paragraph on verdicts, with the book's own example of a check that does
+    not apply (the template's ``na_example``)."""
+    return (
+        "A check reads PASS or FAIL only from numbers; a check whose value or limit is not a "
+        f"number reads ERROR; n/a marks a check that does not apply ({na_example}). The "
+        "overall verdict is PASS only when every applicable check passes and every input is "
+        "accepted; otherwise FAIL, INCOMPLETE or INVALID INPUT.",
+    )
 
 DRIVE_GRID = Grid(
     "Drive harmonic spectrum (% of the drive's fundamental current)",

@@ -59,6 +59,7 @@ INPUTS = (
 )
 
 WHEN = "bank_steps>0"
+NA = "the tuning, capacitor duty and series resonance checks with 0 steps in service"
 PARTS = Table("parts_tbl", "Parts (values in Ω, H, F; the bank's steps in parallel)",
               cm.PART_COLS, (
     Row(("R_src", "R", "SRC", "S1", "=z_src/SQRT(1+xr_src^2)"), "source resistance"),
@@ -150,6 +151,7 @@ TEMPLATE = Template(
     data=DATA,
     key_results=("tuned_order", "l_det_mh", "v_cap_ll", "bus_thd_pct", "cap_i_rms",
                  "series_order"),
+    na_example=NA,
     scenarios=Scenarios((
         Sweep("bank_steps", "steps in service", (0, 1, 2, 3, 4)),
         Sweep("ssc_mva", "short-circuit power at the bus", ("=ssc_min_mva", "=ssc_mva"),
@@ -171,7 +173,7 @@ TEMPLATE = Template(
             "IEEE Std 18-2002 continuous capacitor limits; IEEE Std 519-2014 Table 1 for the "
             "bus voltage; detuning below the lowest characteristic order is common practice.",
         )),
-        ("Verdicts", cm.VERDICTS),
+        ("Verdicts", cm.verdicts(NA)),
         ("Using the book", cm.LIVE),
     ),
 )

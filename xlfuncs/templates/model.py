@@ -265,3 +265,4 @@ class Template:
     key_results: tuple[str, ...]
     data: tuple[Block, ...] = ()
     scenarios: Scenarios | None = None
+    na_example: str = ""  # when this book's checks read n/a, for the notes on verdicts

@@ -201,6 +201,7 @@ INPUTS = (
 )
 
 BANK = "cap_steps>0"
+NA = "the capacitor checks with 0 steps in service, or the resonance distance when the scan finds none"
 EQUIPMENT, EQ_NOTES = equipment((
     ({"name": "U1", "kind": "supply", "bus": "HV", "kv": "=kv_hv", "mva_sc": "=ssc_mva",
       "x_r": "=xr_util"}, "utility at the transformer primary", None),
@@ -429,6 +430,7 @@ TEMPLATE = Template(
     data=DATA,
     key_results=("bus_thd_pct", "bus_v_peak", "pcc_i_rms", "isc_il", "res_order", "res_rule",
                  "cap_i_duty", "cap_vpk_duty", "tx_i_pu", "tx_imax_pu"),
+    na_example=NA,
     scenarios=Scenarios((
         Sweep("cap_steps", "capacitor steps in service", (0, 1, 2, 3, 4)),
         Sweep("ssc_mva", "utility short-circuit power", ("=ssc_min_mva", "=ssc_mva"),
@@ -480,7 +482,7 @@ TEMPLATE = Template(
             "IEEE Std C57.110 (transformer derating, formulas from memory); the 10 % resonance "
             "margin is common practice (from memory).",
         )),
-        ("Verdicts", cm.VERDICTS),
+        ("Verdicts", cm.verdicts(NA)),
         ("Using the book", USING),
     ),
 )

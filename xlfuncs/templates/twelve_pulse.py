@@ -45,6 +45,7 @@ from .plant import (
 N_ORD = len(cm.ORDERS)
 SPECTRUM = spectrum_grid(cm.ORDERS, cm.DRIVE_PCT)
 D2_ON = "d2_kw>0"
+NA = "the T2 current check with drive 2 off"
 
 INPUTS = (
     Section("Supply (utility at the point of common coupling)", (
@@ -272,6 +273,7 @@ TEMPLATE = Template(
     data=DATA,
     key_results=("h5_fd_pct", "h7_fd_pct", "h11_fd_pct", "h13_fd_pct", "pcc_tdd_pct",
                  "pcc_thd_pct", "lv1_thd_pct", "t1_i_pu", "t1_imax_pu"),
+    na_example=NA,
     scenarios=Scenarios((
         Sweep("d2_kw", "drive 2 load", ("=d1_kw", "=d1_kw/2", 0), ("equal", "half", "off")),
         Sweep("ssc_mva", "utility short-circuit power", ("=ssc_min_mva", "=ssc_mva"),
@@ -323,7 +325,7 @@ TEMPLATE = Template(
             "distortion by Isc/I_L); IEEE Std C57.110 (transformer derating, formulas from "
             "memory).",
         )),
-        ("Verdicts", cm.VERDICTS),
+        ("Verdicts", cm.verdicts(NA)),
         ("Using the book", USING),
     ),
 )
