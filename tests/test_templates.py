@@ -195,6 +195,35 @@ def test_the_na_example_is_the_books_own(name):
         assert has_bank or not any("capacitor" in s_ for s_ in n_a), n_a
 
 
+@pytest.mark.parametrize("name", sorted(TEMPLATES))
+def test_network_notes_follow_their_table(name):
+    """Each Network table's "note" column comes right after its own columns: no empty
+    header cell between."""
+    ws = _book(name)["Network"]
+    found = 0
+    for row in ws.iter_rows():
+        heads = [c.value for c in row]
+        if "note" in heads and heads[0] in ("name", "key", "kind", "order", "item"):
+            k = heads.index("note")
+            assert all(v not in (None, "") for v in heads[:k]), (row[0].row, heads)
+            found += 1
+    noted = [t for t in TEMPLATES[name].network if any(r.note for r in t.rows)]
+    assert found == len(noted)
+
+
+@pytest.mark.parametrize("name", sorted(TEMPLATES))
+def test_printed_references_to_files_name_the_documentation(name):
+    """A printed reader cannot open a repository path: any file named on a printed sheet is
+    named as part of the xlfuncs documentation, with its title."""
+    wb = _book(name)
+    for ws in (wb[s] for s in PRINTED if s in wb.sheetnames):
+        for row in ws.iter_rows():
+            for c in row:
+                for m in re.finditer(r"[\w/]+\.md\b", str(c.value or "")):
+                    before = str(c.value)[max(0, m.start() - 120) : m.start()]
+                    assert "xlfuncs documentation" in before, (ws.title, c.coordinate)
+
+
 # ------------------------------------------------------------------------ pages
 def _content_width_pt(ws) -> float:
     c1, _r1, c2, _r2 = range_boundaries(ws.print_area.split("!")[-1].replace("$", ""))

@@ -488,14 +488,14 @@ def _cell(v: Any, when: str | None) -> Any:
     return f'=IF({when},{lit},"")'
 
 
-def _table(book: Book, page: Page, t: Table, b: Binding, r0: int, note_at: int = 0) -> Pos:
+def _table(book: Book, page: Page, t: Table, b: Binding, r0: int) -> Pos:
     """Header + rows at row ``r0``: the function columns, an optional "shown as" column
-    (an Excel Table on the Network sheet), then notes in column ``note_at`` or next."""
+    (an Excel Table on the Network sheet), then the notes right after them."""
     si, _, si_unit = (t.si_col or "").partition(":")
     cols = (*t.cols, *((Col("shown as", width=11),) if si else ()))
     pos = Pos(page.name, r0, 0, tuple(c.id for c in t.cols), len(t.rows))
     page.header(r0, 0, cols)
-    note = max(note_at, len(cols))
+    note = len(cols)
     if any(x.note for x in t.rows):
         page.header(r0, note, (Col("note", width=50),))
     if t.excel and b is book.main:
@@ -559,10 +559,9 @@ def _block(book: Book, page: Page, blk: Block, b: Binding, r0: int, c0: int = 0)
 
 def _network(book: Book, page: Page) -> None:
     page.head(f"{book.t.title} — network (values in SI units)")
-    wide = max(len(t.cols) + bool(t.si_col) for t in book.t.network)
     for t in book.t.network:
         page.title(t.title)
-        pos = _table(book, page, t, book.main, page.row, note_at=wide)
+        pos = _table(book, page, t, book.main, page.row)
         book.main.tables[t.name] = pos
         book.name(t.name, page, pos.row, 0, pos.row + pos.rows, len(t.cols) - 1)
         page.keep.append((pos.row - 1, pos.row + pos.rows))

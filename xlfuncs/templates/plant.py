@@ -444,7 +444,8 @@ TEMPLATE = Template(
             "loads, then injects each order of the drive spectrum at angle h·θ1 + phase into "
             "its sequence network (h ≡ 1 mod 3 positive, 2 negative, 0 zero) and combines the "
             "orders into RMS, THD and duty.",
-            "Models (docs/THREE_PHASE.md): utility R + jhX from its short-circuit power and "
+            "Models (xlfuncs documentation, \"Three-phase harmonic studies from equipment "
+            "ratings\", file docs/THREE_PHASE.md): utility R + jhX from its short-circuit power and "
             "X/R; transformer an ideal ratio with the vector group's phase shift and the "
             "leakage impedance from %Z and X/R, R ∝ √h; incomer R·√h + jhX; capacitor bank C "
             "from the kvar of the steps in service at the rated voltage (lossless); linear load "

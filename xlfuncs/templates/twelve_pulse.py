@@ -296,7 +296,8 @@ TEMPLATE = Template(
             "common feeder carries the characteristic orders 12k ± 1 of a twelve-pulse "
             "converter.",
             EQ_NOTES,
-            "Models (docs/THREE_PHASE.md): utility R + jhX from its short-circuit power and "
+            "Models (xlfuncs documentation, \"Three-phase harmonic studies from equipment "
+            "ratings\", file docs/THREE_PHASE.md): utility R + jhX from its short-circuit power and "
             "X/R; feeder R·√h + jhX; transformers an ideal ratio with the vector group's shift "
             "and the leakage impedance from %Z and X/R, R ∝ √h; drives ideal current sources "
             "with the spectrum of the inputs.",
