@@ -265,8 +265,8 @@ class Page:
         title = book.t.title.replace("&", "&&")
         ws.set_header(f"&L&8{title}&R&8DEMO DATA — invented scenario", {"margin": 0.3})
         ws.set_footer("&L&8&F · &A&R&8Page &P of &N", {"margin": 0.3})
-        last = self.row if self.printed else HEAD_ROWS + 1
-        ws.print_area(0, 0, max(last - 1, HEAD_ROWS), self.last_col)
+        if self.printed:
+            ws.print_area(0, 0, max(self.row - 1, HEAD_ROWS), self.last_col)
         width_px = sum(_px(self.widths.get(c, 8.43)) for c in range(self.last_col + 1))
         page_w, page_h = PAGE[self.landscape]
         width_pt = max(width_px, self.chart_px) * 0.75
@@ -274,8 +274,8 @@ class Page:
         ws.set_print_scale(scale)
         if self.printed:
             ws.set_h_pagebreaks(self._breaks(page_h * 100 / scale * 0.985))
-        else:  # hidden sheets do not print and count in no page total; charts still plot
-            ws.hide()
+        else:  # hidden without a print area: neither Excel nor LibreOffice prints it or
+            ws.hide()  # counts it in a page total (a print area makes LibreOffice print it)
 
     def _breaks(self, cap: float) -> list[int]:
         """Manual page breaks so that no kept item straddles two pages."""
@@ -488,16 +488,22 @@ def _cell(v: Any, when: str | None) -> Any:
     return f'=IF({when},{lit},"")'
 
 
-def _table(book: Book, page: Page, t: Table, b: Binding, r0: int) -> Pos:
+def _table(
+    book: Book, page: Page, t: Table, b: Binding, r0: int, note_to: int | None = None
+) -> Pos:
     """Header + rows at row ``r0``: the function columns, an optional "shown as" column
-    (an Excel Table on the Network sheet), then the notes right after them."""
+    (an Excel Table on the Network sheet), then the notes right after them, merged up to
+    column ``note_to`` (the sheet's note column: other tables' columns keep their widths)."""
     si, _, si_unit = (t.si_col or "").partition(":")
     cols = (*t.cols, *((Col("shown as", width=11),) if si else ()))
     pos = Pos(page.name, r0, 0, tuple(c.id for c in t.cols), len(t.rows))
     page.header(r0, 0, cols)
     note = len(cols)
+    last = max(note, note_to or 0)
     if any(x.note for x in t.rows):
-        page.header(r0, note, (Col("note", width=50),))
+        page.header(r0, last, (Col("note", width=50),))
+        if last > note:
+            page.ws.merge_range(r0, note, r0, last, "note", book.fmt("head"))
     if t.excel and b is book.main:
         head = book.fmt("head")
         page.ws.add_table(
@@ -519,7 +525,9 @@ def _table(book: Book, page: Page, t: Table, b: Binding, r0: int) -> Pos:
             ref = _a1(r, pos.ids.index(si), absolute=False)
             unit = si_unit or UNITS.get(str(row.cells[1]).upper(), "")
             page.put(r, len(t.cols), f'=IF({ref}="","",{eng_text(ref, unit)})')
-        if row.note:
+        if row.note and last > note:
+            page.wrap(r, note, last, row.note, "wrapcell")
+        elif row.note:
             page.put(r, note, row.note, "wrapcell")
     return pos
 
@@ -559,9 +567,10 @@ def _block(book: Book, page: Page, blk: Block, b: Binding, r0: int, c0: int = 0)
 
 def _network(book: Book, page: Page) -> None:
     page.head(f"{book.t.title} — network (values in SI units)")
+    wide = max(len(t.cols) + bool(t.si_col) for t in book.t.network)
     for t in book.t.network:
         page.title(t.title)
-        pos = _table(book, page, t, book.main, page.row)
+        pos = _table(book, page, t, book.main, page.row, note_to=wide)
         book.main.tables[t.name] = pos
         book.name(t.name, page, pos.row, 0, pos.row + pos.rows, len(t.cols) - 1)
         page.keep.append((pos.row - 1, pos.row + pos.rows))
