@@ -18,7 +18,18 @@ import pytest
 from openpyxl.utils.cell import range_boundaries
 
 from xlfuncs.templates import CAUTION, DEMO, TEMPLATES, build_all
-from xlfuncs.templates.model import Check, Col, Input, Result, Row, Section, Table, Template, num
+from xlfuncs.templates.model import (
+    Block,
+    Check,
+    Col,
+    Input,
+    Result,
+    Row,
+    Section,
+    Table,
+    Template,
+    num,
+)
 from xlfuncs.workbook import recalc
 from xlfuncs.workbook.recalc import PreparedBook
 
@@ -140,6 +151,79 @@ def test_sheets_carry_demo_marking_cautions_and_document_line(name):
     assert len(wb["Network"].tables) == 2  # parts and sources as Excel Tables
 
 
+@pytest.mark.parametrize("name", sorted(TEMPLATES))
+def test_sign_off_placeholders_read_not_signed(name):
+    """A placeholder name or date must not read as accepted: "not signed", without making
+    the demo's verdict INVALID INPUT; a name typed in reads "signed"."""
+    ws = _book(name)["Cover"]
+    status = {ws.cell(r, 1).value: (ws.cell(r, 2).value, ws.cell(r, 4).value)
+              for r in range(1, 30)}  # fmt: skip
+    for label in ("Prepared", "Checked", "Date checked", "Approved", "Date approved"):
+        assert status[label][1] == "not signed", (label, status[label])
+    assert status["Project"][1] == "ok"
+    pb = _prepared(name)
+    assert pb.read("verdict") in ("PASS", "FAIL") and pb.read("inputs_invalid") == 0
+    sheet, r, c = pb.input_cell("checked_by")
+    pb.engine.set_value(sheet, r, c, "A. Checker")
+    pb.engine.evaluate()
+    got = pb.engine.value(sheet, r, c + 2)
+    pb.engine.set_value(sheet, r, c, "(name)")
+    pb.engine.evaluate()
+    assert got == "signed" and pb.engine.value(sheet, r, c + 2) == "not signed"
+
+
+@pytest.mark.parametrize("name", sorted(TEMPLATES))
+def test_the_na_example_is_the_books_own(name):
+    """The Checks page and the Notes explain n/a with this book's checks: a book without a
+    capacitor bank does not speak of one, a book whose checks all apply says none reads n/a."""
+    t, wb = TEMPLATES[name], _book(name)
+    conditional = [c for c in t.checks if c.applies]
+    ws = wb["Checks"]
+    note = next(str(c.value) for row in ws.iter_rows() for c in row
+                if str(c.value).startswith("PASS only when"))  # fmt: skip
+    notes = " ".join(str(c.value) for row in wb["Notes"].iter_rows() for c in row if c.value)
+    has_bank = any(i.name.endswith("steps") for i in _inputs(t))
+    if not conditional:
+        assert "none reads n/a" in note
+    else:
+        assert t.na_example and t.na_example in note
+        for c in conditional:  # each condition's subject is in the example
+            if "steps" in c.applies:
+                assert "0 steps" in t.na_example, c.label
+    for text_ in (note, notes):
+        n_a = [s_ for s_ in re.split(r"(?<=[.;])\s", text_) if "n/a" in s_]
+        assert has_bank or not any("capacitor" in s_ for s_ in n_a), n_a
+
+
+@pytest.mark.parametrize("name", sorted(TEMPLATES))
+def test_network_notes_follow_their_table(name):
+    """Each Network table's "note" column comes right after its own columns: no empty
+    header cell between."""
+    ws = _book(name)["Network"]
+    found = 0
+    for row in ws.iter_rows():
+        heads = [c.value for c in row]
+        if "note" in heads and heads[0] in ("name", "key", "kind", "order", "item"):
+            k = heads.index("note")
+            assert all(v not in (None, "") for v in heads[:k]), (row[0].row, heads)
+            found += 1
+    noted = [t for t in TEMPLATES[name].network if any(r.note for r in t.rows)]
+    assert found == len(noted)
+
+
+@pytest.mark.parametrize("name", sorted(TEMPLATES))
+def test_printed_references_to_files_name_the_documentation(name):
+    """A printed reader cannot open a repository path: any file named on a printed sheet is
+    named as part of the xlfuncs documentation, with its title."""
+    wb = _book(name)
+    for ws in (wb[s] for s in PRINTED if s in wb.sheetnames):
+        for row in ws.iter_rows():
+            for c in row:
+                for m in re.finditer(r"[\w/]+\.md\b", str(c.value or "")):
+                    before = str(c.value)[max(0, m.start() - 120) : m.start()]
+                    assert "xlfuncs documentation" in before, (ws.title, c.coordinate)
+
+
 # ------------------------------------------------------------------------ pages
 def _content_width_pt(ws) -> float:
     c1, _r1, c2, _r2 = range_boundaries(ws.print_area.split("!")[-1].replace("$", ""))
@@ -157,7 +241,13 @@ def test_print_setup_on_every_sheet(name):
     for ws in wb:
         ps = ws.page_setup
         assert ps.paperSize == 9, ws.title  # A4
-        assert ws.print_area and ws.print_title_rows == "$1:$3", ws.title
+        assert ws.print_title_rows == "$1:$3", ws.title
+        if ws.title in ("Data", "Cases"):  # long tables stay out of print and page counts:
+            # hidden (Excel prints no hidden sheet) and without a print area (LibreOffice
+            # prints a hidden sheet's print area)
+            assert ws.sheet_state == "hidden" and not ws.print_area, ws.title
+            continue
+        assert ws.print_area and ws.sheet_state == "visible", ws.title
         assert "&F" in ws.oddFooter.left.text and "&A" in ws.oddFooter.left.text
         assert ws.oddFooter.right.text.endswith("Page &P of &N")
         landscape = ps.orientation == "landscape"
@@ -165,10 +255,7 @@ def test_print_setup_on_every_sheet(name):
         scale = (ps.scale or 100) / 100
         assert scale <= 1 and _content_width_pt(ws) * scale <= width_pt, ws.title
         _c1, _r1, _c2, r2 = range_boundaries(ws.print_area.split("!")[-1].replace("$", ""))
-        if ws.title in ("Data", "Cases"):  # long tables stay out of print
-            assert r2 <= 4
-        else:
-            assert r2 > 4
+        assert r2 > 4, ws.title
         if ws.title in ("Inputs", "Network", "Results", "Checks", "Scenarios"):
             assert landscape, ws.title
         # a manual break sits next to a blank spacer row: no table or chart is split
@@ -176,6 +263,45 @@ def test_print_setup_on_every_sheet(name):
         for brk in ws.row_breaks.brk:
             rows = [[c.value for c in ws[k]] for k in (brk.id, brk.id + 1)]
             assert any(all(v is None for v in row) for row in rows), (ws.title, brk.id)
+
+
+def _width(ws, c: int) -> float:
+    """Column c's width in characters of text: one unit of Excel column width is the width
+    of a '0' (7 px in Calibri 11), ordinary text averages about 6 px a character (from
+    memory), so about 1.15 characters a unit."""
+    for d in ws.column_dimensions.values():
+        if d.min and d.max and d.min <= c <= d.max and d.width:
+            return d.width * 1.15
+    return 8.43 * 1.15  # Excel's default width
+
+
+@pytest.mark.parametrize("name", sorted(TEMPLATES))
+def test_no_printed_text_is_cut(name):
+    """Every text cell of the printed sheets (cached values: spilled text too) either wraps
+    in a row tall enough (12 pt a line at least, for an 11 pt font) or runs on into empty
+    cells inside the print area; a spilled "" is not empty, so a long basis line inside a
+    spill would be cut at its own column."""
+    wb = _book(name)
+    for ws in (wb[s] for s in PRINTED if s in wb.sheetnames):
+        _c1, _r1, c2, r2 = range_boundaries(ws.print_area.split("!")[-1].replace("$", ""))
+        merged = {(m.min_row, m.min_col): m for m in ws.merged_cells.ranges}
+        for row in ws.iter_rows(max_row=r2):
+            for c in row:
+                v = c.value
+                if not isinstance(v, str) or not v:
+                    continue
+                m = merged.get((c.row, c.column))
+                last = m.max_col if m else c.column
+                room = sum(_width(ws, k) for k in range(c.column, last + 1))
+                if c.alignment.wrap_text:
+                    lines = sum(math.ceil(len(p) / room) for p in v.split("\n"))
+                    height = ws.row_dimensions[c.row].height or 15
+                    assert height >= 12 * lines, (ws.title, c.coordinate, v[:40])
+                    continue
+                k = last + 1
+                while room < len(v) and k <= c2 and ws.cell(c.row, k).value is None:
+                    room, k = room + _width(ws, k), k + 1
+                assert room >= len(v), (ws.title, c.coordinate, v[:40])
 
 
 @pytest.mark.parametrize("name", sorted(TEMPLATES))
@@ -242,6 +368,39 @@ def test_dc_link_noise_floor():
     col = heads["v"]
     charted = [data.cell(r, col).value for r in range(7, 30) if data.cell(r, col).value]
     assert len(charted) == 12 and min(charted) >= 1e-12 * max(charted)
+
+
+# the continuous limits of IEEE Std 18-2002 are on rms voltage, peak voltage, rms current
+# (A) and reactive power (kvar); IEEE C57.110 states its loss factors as pure numbers
+DUTY = {"rms voltage": "V", "peak voltage": "V", "rms current": "A", "kvar": "kvar"}
+PURE = {"F_HL", "F_HL_STR", "K_factor", "capacitor verdict"}
+
+
+@pytest.mark.parametrize("name", sorted(TEMPLATES))
+def test_tables_of_mixed_quantities_give_each_row_its_unit(name):
+    """Duty, rating and derating tables: every row holding a number has a unit beside it
+    (the IEEE 18 rows the standard's own), and the "result" column holds verdicts only."""
+    t = TEMPLATES[name]
+    ws = _book(name)["Results"]
+    blocks = [b for b in t.results if isinstance(b, Block) and b.units]
+    titles = {ws.cell(r, 1).value: r for r in range(1, ws.max_row + 1)}
+    seen = 0
+    for blk in blocks:
+        head = titles[blk.title] + 1
+        cols = {ws.cell(head, c).value: c for c in range(1, len(blk.cols) + 2)}
+        assert cols.get("unit") == len(blk.cols) + 1, blk.key
+        for r in range(head + 1, head + blk.rows):
+            label, value = ws.cell(r, 1).value, ws.cell(r, 2).value
+            unit = ws.cell(r, cols["unit"]).value
+            if isinstance(value, float) and label not in PURE:
+                assert unit, (blk.key, label)
+                seen += 1
+            for word in ("rms voltage", "peak voltage", "rms current", "kvar"):
+                if label in (word, f"capacitor {word}"):
+                    assert unit == DUTY[word], (blk.key, label, unit)
+            if "result" in cols:
+                assert ws.cell(r, cols["result"]).value in (*VERDICTS, "", None), (blk.key, r)
+    assert seen >= 4 or not blocks
 
 
 # ------------------------------------------------------------------------ verdicts
@@ -325,12 +484,41 @@ def test_no_capacitor_bank_is_the_base_case(name, steps, tmp_path):
         pb.engine.set_value(sheet, r, c, default)
         pb.engine.evaluate()
     _assert_honest(rows, TEMPLATES[name].checks)
+    bank = f"{steps}>0"
     for (value, _rule, _limit, result), chk in zip(rows, TEMPLATES[name].checks, strict=True):
-        if chk.label.startswith("Capacitor") and "rise" not in chk.label:
+        if chk.label.startswith("Capacitor") or chk.applies == bank:
             assert result == "n/a" and value == "n/a", chk.label
         elif chk.applies is None:
             assert isinstance(value, float), chk.label
     assert "ERROR" not in [x[3] for x in rows]
+
+
+def test_detuned_checks_of_the_bank_do_not_apply_without_one(tmp_path):
+    """bank_steps = 0: no filter, so neither its tuning nor its capacitor voltage is checked;
+    the verdict rests on the bus voltage checks alone (headless recalculation with --set)."""
+    from xlfuncs.workbook import recalc
+
+    name = "detuned_filter.xlsx"
+    t = TEMPLATES[name]
+    out = tmp_path / name
+    assert recalc(TPL / name, out, {"bank_steps": 0}).errors == []
+    ws = openpyxl.load_workbook(out, data_only=True)["Checks"]
+    rows = {ws.cell(r, 1).value: [ws.cell(r, c).value for c in (2, 4, 6)] for r in range(1, 40)}
+    for label in ("Tuned order below the lowest injected order",
+                  "Capacitor voltage with the rise / rated"):  # fmt: skip
+        assert rows[label] == ["n/a", "n/a", "n/a"], label
+    counted = [rows[c.label][2] for c in t.checks if rows[c.label][2] != "n/a"]
+    assert counted and all(c.applies is None for c in t.checks if rows[c.label][2] != "n/a")
+    assert _named(out)["verdict"] == ("PASS" if set(counted) == {"PASS"} else "FAIL")
+    # the Scenarios columns with 0 steps (S1, S2) say the same
+    sc = _book(name)["Scenarios"]
+    head = next(r for r in range(1, 40) if sc.cell(r, 1).value == "check")
+    zero = [c for c in range(3, 13) if sc.cell(head + 1, c).value == 0]
+    assert len(zero) == 2
+    for r in range(head + 3, head + 3 + len(t.checks)):
+        if sc.cell(r, 1).value in ("Tuned order below the lowest injected order",
+                                   "Capacitor voltage with the rise / rated"):  # fmt: skip
+            assert [sc.cell(r, c).value for c in zero] == ["n/a", "n/a"]
 
 
 @pytest.mark.parametrize("name", sorted(TEMPLATES))
@@ -398,6 +586,40 @@ def test_scenarios_cover_every_step_and_level():
     for ws, want in ((det, {"PASS"}), (plant, {"FAIL"})):
         row = next(r for r in range(1, 120) if ws.cell(r, 1).value == "verdict per scenario")
         assert {ws.cell(row, c).value for c in range(3, 13)} == want
+
+
+@pytest.mark.parametrize("name", sorted(n for n, t in TEMPLATES.items() if t.scenarios))
+def test_worst_in_names_the_scenario_that_holds_the_worst_value(name):
+    """Every check row of the Scenarios sheet: "worst" is the max (≤ rules) or min (≥) of
+    the row's numbers, "worst in" names a scenario holding exactly that number, and the
+    outline marks that scenario's cell (differences of 1e-13 % included: no tolerance)."""
+    t = TEMPLATES[name]
+    ws, wf = _book(name)["Scenarios"], _book(name, False)["Scenarios"]
+    head = next(r for r in range(1, 40) if ws.cell(r, 1).value == "check")
+    heads = {ws.cell(head, c).value: c for c in range(1, ws.max_column + 1)}
+    cols = [c for h, c in heads.items() if re.fullmatch(r"S\d+", str(h))]
+    first = head + 1 + len(t.scenarios.sweeps)
+    rules = {str(cf.sqref): [r.formula[0] for r in cf.rules] for cf in wf.conditional_formatting}
+    spread = 0
+    for i, chk in enumerate(t.checks):
+        r = first + i
+        assert ws.cell(r, 1).value == chk.label
+        nums = [ws.cell(r, c).value for c in cols if isinstance(ws.cell(r, c).value, float)]
+        worst, where = ws.cell(r, heads["worst"]).value, ws.cell(r, heads["worst in"]).value
+        if not nums:
+            assert (worst, where) == ("—", "—"), chk.label
+            continue
+        want = min(nums) if chk.rule.startswith(">") else max(nums)
+        assert worst == want, chk.label
+        assert ws.cell(r, heads[where]).value == want, (chk.label, where)
+        spread += len(set(nums)) > 1
+        a, b = (
+            openpyxl.utils.get_column_letter(cols[0]),
+            openpyxl.utils.get_column_letter(cols[-1]),
+        )
+        outline = f"{a}${head}=${openpyxl.utils.get_column_letter(heads['worst in'])}${r}"
+        assert outline in rules[f"{a}{r}:{b}{r}"], chk.label
+    assert spread >= 2  # the rows differ between scenarios: the test can tell them apart
 
 
 def test_a_new_template_costs_a_description(tmp_path):

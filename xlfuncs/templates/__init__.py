@@ -26,7 +26,7 @@ A :class:`~.model.Template` lists, in plain frozen dataclasses:
     in order: :class:`~.model.Section` of :class:`~.model.Result` (named cells),
     :class:`~.model.Block` (a spilled function, its columns formatted and its rows
     reserved) and formula tables (``Table(excel=False)``); ``data`` holds long blocks for
-    the Data sheet (outside the print area).
+    the Data sheet (hidden, so it does not print).
 ``checks``
     :class:`~.model.Check`: value, rule, limit, unit, the limit's source and the condition
     under which it applies. The result reads PASS/FAIL from numbers only, ERROR otherwise,

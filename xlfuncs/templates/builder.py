@@ -1,7 +1,7 @@
 """Render a :class:`~.model.Template` into a workbook (XlsxWriter).
 
 Sheets: Cover, Inputs, Network, Results, Charts, Checks, Scenarios (when described),
-Notes, then Data and Cases (long spilled tables, outside the print areas). Every sheet
+Notes, then Data and Cases (long spilled tables; hidden, so they do not print). Every sheet
 carries the title, the demo marking and the document line (project, document, revision,
 date) in rows 1–3, repeated on every printed page. Every cell is planned first and its
 formula rendered last, once every position is known; a scenario re-renders the formulas
@@ -46,6 +46,8 @@ FORMATS = {
     "deg": "0.0",
     "pct": "0.00",
     "thou": "#,##0",
+    # a positive quantity of any size: 1,439.8 · 189.0 · 3.780 · 0.070 · 8.221E-04
+    "qty": "[>=100]#,##0.0;[>=0.01]0.000;0.000E+00",
 }
 # cell styles (our own palette); every style is a plain XlsxWriter format description
 GREY = {"border": 1, "border_color": "#BBBBBB", "valign": "top"}
@@ -81,8 +83,7 @@ CHECK_COLS = (Col("check", width=38), Col("value", width=12), Col("", width=4),
 VERDICT_NOTE = (
     "PASS only when every check that applies is a number within its limit and every input is "
     "accepted; a check whose value is not a number reads ERROR and makes the verdict "
-    "INCOMPLETE; n/a marks a check that does not apply (for example capacitor duty without a "
-    "capacitor bank)."
+    "INCOMPLETE; "
 )
 AXIS = {"major_gridlines": {"visible": True, "line": {"color": "#DDDDDD", "width": 0.5}},
         "label_position": "low", "name_font": {"size": 9, "bold": False}, "num_font": {"size": 8}}
@@ -264,8 +265,8 @@ class Page:
         title = book.t.title.replace("&", "&&")
         ws.set_header(f"&L&8{title}&R&8DEMO DATA — invented scenario", {"margin": 0.3})
         ws.set_footer("&L&8&F · &A&R&8Page &P of &N", {"margin": 0.3})
-        last = self.row if self.printed else HEAD_ROWS + 1
-        ws.print_area(0, 0, max(last - 1, HEAD_ROWS), self.last_col)
+        if self.printed:
+            ws.print_area(0, 0, max(self.row - 1, HEAD_ROWS), self.last_col)
         width_px = sum(_px(self.widths.get(c, 8.43)) for c in range(self.last_col + 1))
         page_w, page_h = PAGE[self.landscape]
         width_pt = max(width_px, self.chart_px) * 0.75
@@ -273,6 +274,8 @@ class Page:
         ws.set_print_scale(scale)
         if self.printed:
             ws.set_h_pagebreaks(self._breaks(page_h * 100 / scale * 0.985))
+        else:  # hidden without a print area: neither Excel nor LibreOffice prints it or
+            ws.hide()  # counts it in a page total (a print area makes LibreOffice print it)
 
     def _breaks(self, cap: float) -> list[int]:
         """Manual page breaks so that no kept item straddles two pages."""
@@ -318,6 +321,8 @@ class Book:
         self.later: list[Callable[[], None]] = []
         self.main = Binding()
         self.check_rows: list[int] = []
+        self.data: Page
+        self.data_col = 0
         self.docline = 'project&"  ·  document "&doc_no&"  ·  revision "&revision&"  ·  "&doc_date'
 
     def fmt(self, style: str, numfmt: str = "general") -> Any:
@@ -483,16 +488,22 @@ def _cell(v: Any, when: str | None) -> Any:
     return f'=IF({when},{lit},"")'
 
 
-def _table(book: Book, page: Page, t: Table, b: Binding, r0: int, note_at: int = 0) -> Pos:
+def _table(
+    book: Book, page: Page, t: Table, b: Binding, r0: int, note_to: int | None = None
+) -> Pos:
     """Header + rows at row ``r0``: the function columns, an optional "shown as" column
-    (an Excel Table on the Network sheet), then notes in column ``note_at`` or next."""
+    (an Excel Table on the Network sheet), then the notes right after them, merged up to
+    column ``note_to`` (the sheet's note column: other tables' columns keep their widths)."""
     si, _, si_unit = (t.si_col or "").partition(":")
     cols = (*t.cols, *((Col("shown as", width=11),) if si else ()))
     pos = Pos(page.name, r0, 0, tuple(c.id for c in t.cols), len(t.rows))
     page.header(r0, 0, cols)
-    note = max(note_at, len(cols))
+    note = len(cols)
+    last = max(note, note_to or 0)
     if any(x.note for x in t.rows):
-        page.header(r0, note, (Col("note", width=50),))
+        page.header(r0, last, (Col("note", width=50),))
+        if last > note:
+            page.ws.merge_range(r0, note, r0, last, "note", book.fmt("head"))
     if t.excel and b is book.main:
         head = book.fmt("head")
         page.ws.add_table(
@@ -514,7 +525,9 @@ def _table(book: Book, page: Page, t: Table, b: Binding, r0: int, note_at: int =
             ref = _a1(r, pos.ids.index(si), absolute=False)
             unit = si_unit or UNITS.get(str(row.cells[1]).upper(), "")
             page.put(r, len(t.cols), f'=IF({ref}="","",{eng_text(ref, unit)})')
-        if row.note:
+        if row.note and last > note:
+            page.wrap(r, note, last, row.note, "wrapcell")
+        elif row.note:
             page.put(r, note, row.note, "wrapcell")
     return pos
 
@@ -528,6 +541,16 @@ def _block(book: Book, page: Page, blk: Block, b: Binding, r0: int, c0: int = 0)
         page.put(r0, c, None if blk.headed else col.header, "head")
         for r in range(r0 + 1, r0 + blk.rows):
             page.put(r, c, None, "num", col.fmt)
+    if blk.units and page.printed:  # beside the spill: each row's unit from its label
+        u = c0 + len(blk.cols)
+        page.put(r0, u, "unit", "head")
+        page.need(u, max(len(x) for _, x in blk.units) + 2)
+        for r in range(r0 + 1, r0 + blk.rows):
+            label = _a1(r, c0, False)
+            pick = '""'
+            for name, unit in reversed(blk.units):
+                pick = f'IF({label}="{name}","{unit}",{pick})'
+            page.put(r, u, f'=IFERROR({pick},"")', "num")
     first = r0 if blk.headed else r0 + 1
     fmt = "general" if blk.headed else blk.cols[0].fmt
     page.put(
@@ -547,7 +570,7 @@ def _network(book: Book, page: Page) -> None:
     wide = max(len(t.cols) + bool(t.si_col) for t in book.t.network)
     for t in book.t.network:
         page.title(t.title)
-        pos = _table(book, page, t, book.main, page.row, note_at=wide)
+        pos = _table(book, page, t, book.main, page.row, note_to=wide)
         book.main.tables[t.name] = pos
         book.name(t.name, page, pos.row, 0, pos.row + pos.rows, len(t.cols) - 1)
         page.keep.append((pos.row - 1, pos.row + pos.rows))
@@ -575,6 +598,9 @@ def _results(book: Book, page: Page) -> None:
             book.main.tables[item.name] = _table(book, page, item, book.main, page.row)
             page.keep.append((page.row - 1, page.row + len(item.rows)))
             page.row += len(item.rows) + 2
+        elif item.notes:
+            page.title(item.title)
+            _noted_block(book, page, item)
         else:
             page.title(item.title)
             book.main.blocks[item.key] = _block(book, page, item, book.main, page.row)
@@ -582,14 +608,46 @@ def _results(book: Book, page: Page) -> None:
             page.row += item.rows + 1
 
 
+NOTE_ROWS = ("basis", "note")  # labels of the long text rows worksheet functions append
+
+
+def _noted_block(book: Book, page: Page, blk: Block) -> None:
+    """The full result on the Data sheet (every reference to the block means it); on the
+    page, its table rows without the text rows, then those as one line wrapped across the
+    block's columns."""
+    data, c = book.data, book.data_col
+    data.put(4, c, blk.title + " (in full)", "section")
+    full = book.main.blocks[blk.key] = _block(book, data, blk, book.main, 5, c)
+    book.data_col += len(blk.cols) + 1
+    data.row = max(data.row, 5 + blk.rows)
+    cell = full.anchor()
+    arr = f"_xlfn.ANCHORARRAY({cell})"
+    first = f"INDEX({arr},0,1)"
+    keep = "*".join(f'({first}<>"{w}")' for w in NOTE_ROWS)
+    told = "+".join(f'({first}="{w}")' for w in NOTE_ROWS)
+    # a result that did not spill (its one-line message, "n/a") is shown as it is
+    table = f"IF(ISERROR(ROWS({arr})),{cell},_xlfn._xlws.FILTER({arr},{keep}))"
+    view = Block(blk.key, blk.title, table, blk.cols, blk.rows, headed=blk.headed)
+    r0 = page.row
+    _block(book, page, view, book.main, r0)
+    r, c2 = r0 + blk.rows, len(blk.cols) - 1
+    lines = f'_xlfn._xlws.FILTER({first}&": "&INDEX({arr},0,2),{told})'
+    page.ws.merge_range(r, 0, r, c2, "", book.fmt("text"))
+    page.put(r, 0, f'=IFERROR(_xlfn.TEXTJOIN(CHAR(10),TRUE,{lines}),"")', "text", array=True)
+    page.wrapped.append((r, 0, c2, "x" * blk.notes))
+    page.keep.append((r0 - 1, r))
+    page.row = r + 2
+
+
 def _data(book: Book, page: Page) -> None:
-    page.head(f"{book.t.title} — long tables behind the charts (not printed)")
+    page.head(f"{book.t.title} — long tables behind the charts (hidden: not printed)")
     c, page.row = 0, 6
     for blk in book.t.data:
         page.put(4, c, blk.title, "section")
         book.main.blocks[blk.key] = _block(book, page, blk, book.main, 5, c)
         c += len(blk.cols) + 1
         page.row = max(page.row, 5 + blk.rows)
+    book.data, book.data_col = page, c  # the full results of noted blocks go on from here
 
 
 def _charts(book: Book, page: Page) -> None:
@@ -668,9 +726,17 @@ def _checks(book: Book, page: Page) -> None:
     page.height(r, 24)
     book.name("verdict", page, r, 5)
     r += 2
-    page.wrap(r, 0, 6, VERDICT_NOTE)
+    page.wrap(r, 0, 6, VERDICT_NOTE + _na_note(book.t))
     page.keep.append((top - 1, r))
     page.row = r + 1
+
+
+def _na_note(t: Template) -> str:
+    """What n/a means in this book: its own example, or that no check can read it."""
+    if not any(c.applies for c in t.checks):
+        return "every check of this book applies in every case, so none reads n/a."
+    example = f" (here: {t.na_example})" if t.na_example else ""
+    return f"n/a marks a check that does not apply{example}."
 
 
 def _needed(t: Template, swept: set[str]) -> set[str]:
@@ -753,7 +819,7 @@ def _scenarios(book: Book, page: Page, cases: Page) -> None:
         axis.append([])
         for c, v in enumerate(s.values, 2):
             literal = not str(v).startswith("=")
-            page.put(page.row, c, v, "input" if literal else "calc")
+            page.put(page.row, c, v, "input" if literal else "calc", s.fmt)
             if literal:
                 _validate(book, page, page.row, c, inputs[s.input].rule, s.label, s.input, "")
             axis[-1].append(_a1(page.row, c))
@@ -784,7 +850,10 @@ def _scenarios(book: Book, page: Page, cases: Page) -> None:
             page.put(k, 0, label[k - page.row - 1], "wrapcell")
             page.put(k, 1, inputs[s.input].unit)
             for j, combo in enumerate(combos):
-                page.put(k, 2 + j, "=" + axis[k - page.row - 1][combo[k - page.row - 1]], "calc")
+                s_ = sc.sweeps[k - page.row - 1]
+                page.put(
+                    k, 2 + j, "=" + axis[k - page.row - 1][combo[k - page.row - 1]], "calc", s_.fmt
+                )
         rows[part] = page.row + 1 + len(sc.sweeps)
         if part == "value":
             sweep_cells = [
@@ -815,17 +884,25 @@ def _scenarios(book: Book, page: Page, cases: Page) -> None:
         span = f"{_a1(v_row, 2)}:{_a1(v_row, last)}"
         worst = "MIN" if chk.rule.startswith(">") else "MAX"
         page.put(v_row, 2 + n, f'=IF(COUNT({span})=0,"—",{worst}({span}))', "calc", chk.fmt)
-        heads = f"{_a1(rows['value'] - len(sc.sweeps) - 1, 2)}:{_a1(rows['value'] - len(sc.sweeps) - 1, last)}"
-        page.put(v_row, 3 + n, f'=IFERROR(INDEX({heads},MATCH({_a1(v_row, 2 + n)},{span},0)),"—")')
-        x, res = _a1(v_row, 2, False), _a1(r_row, 2, False).replace("$", "")
-        page.ws.conditional_format(
+        head_row = rows["value"] - len(sc.sweeps) - 1
+        heads = f"{_a1(head_row, 2)}:{_a1(head_row, last)}"
+        # the first scenario whose value equals the worst by the = operator (exact for
+        # numbers, FALSE for text): MATCH(…,0) compares numbers within a tolerance in some
+        # engines, and tiny differences between two methods would all name the first
+        is_worst = f"{span}={_a1(v_row, 2 + n)}"
+        page.put(
+            v_row, 3 + n, f'=IFERROR(INDEX({heads},MATCH(TRUE,{is_worst},0)),"—")', array=True
+        )
+        res = _a1(r_row, 2, False).replace("$", "")
+        head = f"{get_column_letter(3)}${head_row + 1}"  # the scenario's name, row fixed
+        page.ws.conditional_format(  # outline the scenario named in "worst in", only it
             v_row,
             2,
             v_row,
             last,
             {
                 "type": "formula",
-                "criteria": f"=AND(ISNUMBER({x}),{x}={_a1(v_row, 2 + n)})",
+                "criteria": f"={head}={_a1(v_row, 3 + n)}",
                 "format": book.fmt("worst"),
             },
         )
@@ -886,8 +963,18 @@ TITLE_BLOCK = (
     ("doc_date", "Date", "2026-01-01"),
     ("prepared_by", "Prepared", "(name)"),
     ("checked_by", "Checked", "(name)"),
+    ("checked_date", "Date checked", "(date)"),
     ("approved_by", "Approved", "(name)"),
+    ("approved_date", "Date approved", "(date)"),
 )
+SIGN_OFF = "not signed"  # a sign-off field still blank or holding its placeholder
+
+
+def _sign_status(rule: Rule, ref: str, placeholder: str) -> str:
+    """An accepted sign-off field reads "signed" only once a name or date replaces the
+    placeholder; the placeholder or a blank reads "not signed" (not an input error)."""
+    empty = f'OR(TRIM({ref})="",{ref}="{placeholder}")'
+    return f'=IF({rule.ok_formula(ref)},IF({empty},"{SIGN_OFF}","signed"),"expects {rule.describe()}")'
 
 
 def _cover(book: Book, page: Page) -> None:
@@ -906,10 +993,21 @@ def _cover(book: Book, page: Page) -> None:
         page.put(r, 0, label)
         page.ws.merge_range(r, 1, r, 2, default, book.fmt("input"))
         _validate(book, page, r, 1, rule, label, name, "")
-        page.put(r, 3, _status(rule, _a1(r, 1, False)))
+        signs = name.startswith(("prepared", "checked", "approved"))
+        ref = _a1(r, 1, False)
+        page.put(r, 3, _sign_status(rule, ref, default) if signs else _status(rule, ref))
         book.name(name, page, r, 1)
         page.row += 1
     page.keep.append((page.row - len(TITLE_BLOCK) - 1, page.row - 1))
+    page.ws.conditional_format(
+        f"{_a1(page.row - len(TITLE_BLOCK), 3, False)}:{_a1(page.row - 1, 3, False)}",
+        {
+            "type": "text",
+            "criteria": "begins with",
+            "value": SIGN_OFF,
+            "format": book.wb.add_format({"bg_color": VERDICT_FILL["ERROR"]}),
+        },
+    )
     page.row += 1
     page.title("Overall verdict")
     page.put(page.row, 0, "all checks (details on the Checks sheet)")
@@ -975,7 +1073,7 @@ def build(t: Template, path: Path) -> None:
     _checks(book, pages["Checks"])
     if t.scenarios:
         pages["Cases"].head(
-            f"{t.title} — one copy of the dependent calculation per scenario (not printed)"
+            f"{t.title} — one copy of the dependent calculation per scenario (hidden: not printed)"
         )
         _scenarios(book, pages["Scenarios"], pages["Cases"])
     _charts(book, pages["Charts"])

@@ -12,15 +12,20 @@ W = "(2*PI()*f_hz)"
 TEAL = "#2E8B8B"
 SCENARIO_NOTE = (
     "Each column S1… is the whole check list evaluated again with the swept values in place of "
-    "the inputs (the network, results and spilled studies of every column are on the Cases "
-    "sheet). The outlined value in each row is the worst case of that check."
+    "the inputs (the network, results and spilled studies of every column are on the hidden "
+    "Cases sheet). The outlined value in each row is the worst case of that check."
 )
-VERDICTS = (
-    "A check reads PASS or FAIL only from numbers; a check whose value or limit is not a number "
-    "reads ERROR; n/a marks a check that does not apply (capacitor duty with 0 steps). The "
-    "overall verdict is PASS only when every applicable check passes and every input is "
-    "accepted; otherwise FAIL, INCOMPLETE or INVALID INPUT.",
-)
+
+
+def verdicts(na_example: str) -> tuple[str, ...]:
+    """The Notes paragraph on verdicts, with the book's own example of a check that does
+    not apply (the template's ``na_example``)."""
+    return (
+        "A check reads PASS or FAIL only from numbers; a check whose value or limit is not a "
+        f"number reads ERROR; n/a marks a check that does not apply ({na_example}). The "
+        "overall verdict is PASS only when every applicable check passes and every input is "
+        "accepted; otherwise FAIL, INCOMPLETE or INVALID INPUT.",
+    )
 
 DRIVE_GRID = Grid(
     "Drive harmonic spectrum (% of the drive's fundamental current)",
@@ -55,6 +60,10 @@ OPTIONS = Table(
 )
 
 
+DUTY_UNITS = (("rms voltage", "V"), ("peak voltage", "V"), ("rms current", "A"),
+              ("kvar", "kvar"))
+
+
 def duty_block(part: str, kvar: str, volts: str, when: str) -> Block:
     return Block(
         "duty",
@@ -64,6 +73,7 @@ def duty_block(part: str, kvar: str, volts: str, when: str) -> Block:
          Col("limit", "2"), Col("pass")),
         6,
         when=when,
+        units=DUTY_UNITS,
     )
 
 
@@ -135,17 +145,24 @@ SIGNS = (
     "Phasors are peak values, cosine reference; RMS values combine as √Σ rms²; angles are "
     "shown in (−180°, 180°].",
 )
+HIDDEN = (
+    "The Data sheet (the long tables behind the charts) and, in a book with scenarios, the "
+    "Cases sheet (one copy of the calculation per scenario) are hidden so that they do not "
+    "print; right-click a sheet tab and choose Unhide to see them."
+)
 LIVE = (
     "The book opens with the values xlfuncs computed when it was written (no recalculation on "
     "opening). To make it live in Excel: install xlfuncs and the xlwings add-in, set UDF "
     "Modules to xlfuncs.worksheet, Import Functions, then recalculate everything with "
     "Ctrl+Alt+F9. Without the functions, edited cells that depend on CKT_ functions show "
     "#NAME?. Headless: xlfuncs recalc BOOK.xlsx -o OUT.xlsx --set name=value.",
+    HIDDEN,
     "Numbers typed into the Network tables may carry SI prefixes and units (22u, 4.7 µF, "
     "10 kΩ); the inputs are plain numbers in the unit shown beside each.",
 )
 
 
+BASIS_CHARS = 170  # the basis line of an IEEE 519 table (bus voltage, Isc/IL, fundamental)
 V519_COLS = (Col("item", width=12), Col("percent", "2"), Col("limit_percent", "2", 14),
              Col("result", width=9))
 

@@ -59,6 +59,7 @@ INPUTS = (
 )
 
 WHEN = "bank_steps>0"
+NA = "the tuning, capacitor duty and series resonance checks with 0 steps in service"
 PARTS = Table("parts_tbl", "Parts (values in Ω, H, F; the bank's steps in parallel)",
               cm.PART_COLS, (
     Row(("R_src", "R", "SRC", "S1", "=z_src/SQRT(1+xr_src^2)"), "source resistance"),
@@ -102,20 +103,22 @@ RESULTS = (
                f'=IF({WHEN},CKT_RMS({ARGS},"C_det","I",opts),"n/a")', "A", "1"),
     )),
     Block("det", "Reactor sizing for one step", "CKT_DETUNE(step_kvar,cap_v_rated,f_hz,p_ratio)",
-          (Col("quantity", width=22), Col("value", "sig"), Col("unit")), 10),
+          (Col("quantity", width=22), Col("value", "qty"), Col("unit")), 10),
     cm.vbus_block(),
     cm.harm_table(with_distance=False),
     Block("v519", "IEEE 519 voltage check at the bus", f'CKT_V519({ARGS},"BUS",v_ll/1000,opts)',
-          cm.V519_COLS, 13),
+          cm.V519_COLS, 13, notes=cm.BASIS_CHARS),
     cm.resonance_block("30*f_hz", "Resonances seen at the bus (supply source shorted)"),
     cm.duty_block("C_det", "bank_kvar/3", "cap_v_rated/SQRT(3)", WHEN),
 )
 
 CHECKS = (
     Check("Tuned order below the lowest injected order", "=tuned_order", "=MIN(drive_orders)",
-          "h", "common practice: detune below the 5th for six-pulse drives", rule="<", fmt="3"),
+          "h", "common practice: detune below the 5th for six-pulse drives", rule="<",
+          applies=WHEN, fmt="3"),
     Check("Capacitor voltage with the rise / rated", "=v_cap_ll/cap_v_rated", "=1.1", "ratio",
-          "IEEE Std 18-2002: 110 % of rated RMS voltage (fundamental only here)", fmt="3"),
+          "IEEE Std 18-2002: 110 % of rated RMS voltage (fundamental only here)", applies=WHEN,
+          fmt="3"),
     *cm.duty_checks(WHEN),
     Check("Series resonance vs 1/√p", "=ABS(series_order/tuned_order-1)*100", "=1", "%",
           "consistency of the network with the sizing (closed form 1/√p)", applies=WHEN,
@@ -148,6 +151,7 @@ TEMPLATE = Template(
     data=DATA,
     key_results=("tuned_order", "l_det_mh", "v_cap_ll", "bus_thd_pct", "cap_i_rms",
                  "series_order"),
+    na_example=NA,
     scenarios=Scenarios((
         Sweep("bank_steps", "steps in service", (0, 1, 2, 3, 4)),
         Sweep("ssc_mva", "short-circuit power at the bus", ("=ssc_min_mva", "=ssc_mva"),
@@ -169,7 +173,7 @@ TEMPLATE = Template(
             "IEEE Std 18-2002 continuous capacitor limits; IEEE Std 519-2014 Table 1 for the "
             "bus voltage; detuning below the lowest characteristic order is common practice.",
         )),
-        ("Verdicts", cm.VERDICTS),
+        ("Verdicts", cm.verdicts(NA)),
         ("Using the book", cm.LIVE),
     ),
 )

@@ -115,9 +115,30 @@ SOURCES = Table("sources_tbl", "Sources (one row per tone; rms in V or A)", cm.S
     *cm.drive_rows("GND", "BUS", "drive_i1", "harmonic injection into the bus"),
 ))
 
-RATING_COLS = (Col("quantity", width=26), Col("value", "sig", 12), Col("rated", "sig", 11),
+RATING_COLS = (Col("quantity", width=26), Col("value", "qty", 12), Col("rated", "qty", 11),
                Col("ratio", "3"), Col("limit", "2"), Col("result"))
-QVU = (Col("quantity", width=18), Col("value", "sig", 12), Col("unit", width=22))
+# units of the rating rows; the function gives the reactor rows' units in its "result"
+# column, which the page leaves blank for them (the unit column says them)
+RATING_UNITS = (
+    ("capacitor rms voltage", "V"), ("capacitor peak voltage", "V"),
+    ("capacitor rms current", "A"), ("capacitor kvar", "kvar"),
+    ("reactor rms current", "A"), ("reactor peak current", "A, sum of the tone peaks"),
+    ("reactor fundamental current", "A"), ("reactor rms voltage", "V"),
+    ("losses in R", "W, R constant with frequency"),
+)
+
+
+def _units_out(table: str) -> str:
+    """The rating table without the unit texts the function puts in the "result" column of
+    the reactor rows (the unit column says them; a one-line message passes unchanged)."""
+    t, first = "_xlpm.t", "INDEX(_xlpm.t,0,1)"
+    rows = "+".join(f'({first}="{name}")' for name, _ in RATING_UNITS[4:])
+    col = f'MATCH("result",INDEX({t},1,0),0)'
+    mask = f"(_xlfn.SEQUENCE(1,COLUMNS({t}))={col})*({rows})"
+    return f'_xlfn.LET({t},{table},IF(ROWS({t})>1,IF({mask},"",{t}),{t}))'
+
+
+QVU = (Col("quantity", width=18), Col("value", "qty", 12), Col("unit", width=22))
 
 
 def _vh(block: str) -> str:
@@ -206,7 +227,7 @@ RESULTS = (
           QVU, 11),
     Block("fres", "Parallel resonance of the filter with the supply (CKT_FILTER_RESONANCE)",
           'CKT_FILTER_RESONANCE("tuned",kvar_b,v_ll,f_hz,3,ssc_mva,xr_src,tuned_b,q_b)',
-          (Col("quantity", width=18), Col("value", "sig", 12), Col("unit", width=34)), 7),
+          (Col("quantity", width=18), Col("value", "qty", 12), Col("unit", width=34)), 7),
     Block("ifil", "Filter current per frequency (A, line current)",
           f'CKT_SOLVE({ARGS},"F_L","I",opts)', cm.SOLVE_COLS, 11),
     cm.vbus_block(),
@@ -214,8 +235,9 @@ RESULTS = (
     HARM,
     Block("rating", "Filter rating at the highest voltage, with the harmonic currents it absorbs "
           "(CKT_FILTER_RATING)",
-          "_xlfn.DROP(CKT_FILTER_RATING(\"tuned\",kvar_b*v_max_pu^2,v_ll*v_max_pu,f_hz,3,"
-          "tuned_b,q_b,{harm},cap_kvar,cap_v),-1)", RATING_COLS, 11),
+          _units_out("_xlfn.DROP(CKT_FILTER_RATING(\"tuned\",kvar_b*v_max_pu^2,v_ll*v_max_pu,"
+                     "f_hz,3,tuned_b,q_b,{harm},cap_kvar,cap_v),-1)"), RATING_COLS, 11,
+          units=RATING_UNITS),
     Block("v519", "IEEE 519 voltage check at the bus, with the filter",
           f'_xlfn.DROP(CKT_V519({ARGS},"BUS",v_ll/1000,opts),-1)', cm.V519_COLS, 12),
     cm.resonance_block(F_STOP, "Resonances seen at the bus with the filter (supply source "
@@ -300,7 +322,7 @@ TEMPLATE = Template(
                  "cap_i_ratio", "reactor_i", "loss_kw", "thd_before", "thd_after"),
     scenarios=Scenarios((
         Sweep("c_factor", "capacitance in the network / nominal", ("=c_lo", 1, "=c_hi"),
-              ("lowest", "nominal", "highest")),
+              ("lowest", "nominal", "highest"), "4"),
         Sweep("ssc_mva", "short-circuit power at the bus", ("=ssc_min_mva", "=ssc_mva"),
               ("min", "max")),
     ), cm.SCENARIO_NOTE),

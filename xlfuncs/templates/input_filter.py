@@ -166,7 +166,7 @@ RESULTS = (
                f"harmonics 1–{N_HARM} solved, all of the rest taken through C"),
         Result("rd_share", f"Damping leg's share of the converter ripple at {N_HARM + 1}·f_sw",
                f'=IF(rd_ohm*cb_uf>esr_mohm*1E-3*c_uf,CKT_GAIN_AT({ARGS},"I_conv","R_d",'
-               f'{N_HARM + 1}*f_sw_khz*1E3),1)', "", "4",
+               f'{N_HARM + 1}*f_sw_khz*1E3),1)', "fraction", "4",
                "falls with frequency when R_d·C_b > ESR·C (else 1 is used)"),
         Result("p_rd_w", "Damping resistor dissipation (upper bound)",
                f'=rd_ohm*(CKT_RMS({ARGS},"R_d","I")^2+(rd_share*i_tail_rms)^2)', "W", "4",
@@ -209,7 +209,7 @@ RESULTS = (
                "3", f"closed form less harmonics 1–{N_HARM}"),
     )),
     Section("Damping sizing that restores the required margin (CKT_DAMPING, for an ideal LC)", (
-        Result("damp_n", "n = C_b / C", "=" + pick("damp", "n", "value"), "", "4",
+        Result("damp_n", "n = C_b / C", "=" + pick("damp", "n", "value"), "ratio", "4",
                "Erickson & Maksimović, 2nd ed., §10.4.1 (from memory; verified by the solve)"),
         Result("damp_cb_uf", "Blocking capacitance C_b, sized", "=" + pick("damp", "cb_f", "value")
                + "*1E6", "µF", "3", "the installed C_b should be at least this"),

@@ -168,7 +168,12 @@ class Table:
 @dataclass(frozen=True)
 class Block:
     """A spilled formula (usually one worksheet function): ``rows`` the most rows it
-    returns, header included, formatted and reserved; ``when`` shows "n/a" instead."""
+    returns, header included, formatted and reserved; ``when`` shows "n/a" instead.
+    ``notes`` > 0 on the Results sheet: the function's trailing "basis"/"note" rows (long
+    text) are shown below the table as one line wrapped across its columns, with room for
+    about that many characters; the full result is on the Data sheet, and references to
+    the block (``{key}``, ``{key:col}``, ``{key:@}``) mean the full result. ``units`` adds,
+    on a printed sheet, a "unit" column beside the spill: each row's unit by its label."""
 
     key: str
     title: str
@@ -177,6 +182,8 @@ class Block:
     rows: int
     when: str | None = None
     headed: bool = True  # False: the formula returns data rows only (a header is written)
+    notes: int = 0
+    units: tuple[tuple[str, str], ...] = ()  # (row label, unit): a unit column on the page
 
 
 @dataclass(frozen=True)
@@ -232,6 +239,7 @@ class Sweep:
     label: str
     values: tuple[Any, ...]
     tags: tuple[str, ...] = ()
+    fmt: str = "general"  # the number format of the swept values (as the inputs show them)
 
 
 @dataclass(frozen=True)
@@ -257,3 +265,4 @@ class Template:
     key_results: tuple[str, ...]
     data: tuple[Block, ...] = ()
     scenarios: Scenarios | None = None
+    na_example: str = ""  # when this book's checks read n/a, for the notes on verdicts

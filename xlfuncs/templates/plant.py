@@ -201,6 +201,7 @@ INPUTS = (
 )
 
 BANK = "cap_steps>0"
+NA = "the capacitor checks with 0 steps in service, or the resonance distance when the scan finds none"
 EQUIPMENT, EQ_NOTES = equipment((
     ({"name": "U1", "kind": "supply", "bus": "HV", "kv": "=kv_hv", "mva_sc": "=ssc_mva",
       "x_r": "=xr_util"}, "utility at the transformer primary", None),
@@ -240,6 +241,9 @@ HARM = Table("harm", "Harmonic table at the injected orders", (
 )) for k in range(N_ORD)), excel=False)
 
 DERATE_ROWS = 13  # header, the C57.110 factors, I_rms_a, I_rated_a, load_pu, load_over_I_max
+DERATE_UNITS = (("I_max_pu", "pu"), ("P_LL_pu", "pu"), ("P_LL_R_pu", "pu"),
+                ("I_equal_load_loss_pu", "pu"), ("Irms_over_I1", "ratio"), ("I_rms_a", "A"),
+                ("I_rated_a", "A"), ("load_pu", "pu"), ("load_over_I_max", "ratio"))
 
 
 def derating_block(key: str, item: str, title: str, when: str | None = None) -> Block:
@@ -247,7 +251,8 @@ def derating_block(key: str, item: str, title: str, when: str | None = None) -> 
     through it (its star winding), without the long basis row (the Notes carry it)."""
     return Block(key, title, head_rows(
         f'CKT_ITEM_XFMR_DERATE({EQ},"{item}",tx_pec_pu,{SO},tx_posl_pu)', DERATE_ROWS),
-        (Col("quantity", width=22), Col("value", "4", 14)), DERATE_ROWS, when=when)
+        (Col("quantity", width=22), Col("value", "qty", 14)), DERATE_ROWS, when=when,
+        units=DERATE_UNITS)
 
 
 RESULTS = (
@@ -318,18 +323,18 @@ RESULTS = (
                     f'CKT_BUS_HARMONICS({EQ},"BUS",{SO})', N_ORD + 3, v=True),
     HARM,
     Block("v519", "IEEE 519 voltage check at the bus", f'CKT_BUS_V519({EQ},"BUS",{SO})',
-          cm.V519_COLS, 13),
+          cm.V519_COLS, 13, notes=cm.BASIS_CHARS),
     harmonics_block("itx", "PCC current: transformer LV line current (= the incomer's)",
                     f'CKT_BRANCH_HARMONICS({EQ},"T1",{SO},"bus_to")', N_ORD + 3, v=False),
     Block("i519", "IEEE 519 current check at the PCC (the incomer's current)",
-          f'CKT_BRANCH_I519({EQ},"K1",isc_a,i_l,{SO})', cm.V519_COLS, 14),
+          f'CKT_BRANCH_I519({EQ},"K1",isc_a,i_l,{SO})', cm.V519_COLS, 14, notes=cm.BASIS_CHARS),
     Block("res", "Resonances seen at the bus (positive-sequence network, supply shorted)",
           f'CKT_BUS_RESONANCES(eq_tbl,"BUS",f_hz,40*f_hz,400,"+",{SO})',
-          cm.RES_COLS, 8),
+          cm.RES_COLS, 8, notes=320),  # the method note of a network with a resistance law
     Block("duty", "Capacitor duty of one delta unit (IEEE Std 18-2002 continuous limits)",
           f'CKT_ITEM_CAPDUTY({EQ},"C1",{SO})',
           (Col("quantity", width=16), Col("value", "2"), Col("rated", "2"), Col("ratio", "3"),
-           Col("limit", "2"), Col("pass")), 6, when=BANK),
+           Col("limit", "2"), Col("pass")), 6, when=BANK, units=cm.DUTY_UNITS),
     derating_block("xfd", "T1", "Transformer derating for its harmonic load current (IEEE Std "
                    "C57.110, formulas from memory; I_max_pu for the winding hot spot)"),
 )
@@ -390,6 +395,7 @@ USING = (
     "kva in kVA, kvar in kvar, kw in kW, mva_sc in MVA) or carry their unit as text (480 V, "
     "13.8 kV, 2 MVA); a bare SI prefix (13.8k in a kV column) is refused as ambiguous. The "
     "inputs are plain numbers in the unit shown beside each.",
+    cm.HIDDEN,
 )
 NOT_COVERED = (
     "Balanced operation only: every harmonic order is one sequence; unbalance, single-phase "
@@ -424,6 +430,7 @@ TEMPLATE = Template(
     data=DATA,
     key_results=("bus_thd_pct", "bus_v_peak", "pcc_i_rms", "isc_il", "res_order", "res_rule",
                  "cap_i_duty", "cap_vpk_duty", "tx_i_pu", "tx_imax_pu"),
+    na_example=NA,
     scenarios=Scenarios((
         Sweep("cap_steps", "capacitor steps in service", (0, 1, 2, 3, 4)),
         Sweep("ssc_mva", "utility short-circuit power", ("=ssc_min_mva", "=ssc_mva"),
@@ -437,7 +444,8 @@ TEMPLATE = Template(
             "loads, then injects each order of the drive spectrum at angle h·θ1 + phase into "
             "its sequence network (h ≡ 1 mod 3 positive, 2 negative, 0 zero) and combines the "
             "orders into RMS, THD and duty.",
-            "Models (docs/THREE_PHASE.md): utility R + jhX from its short-circuit power and "
+            "Models (xlfuncs documentation, \"Three-phase harmonic studies from equipment "
+            "ratings\", file docs/THREE_PHASE.md): utility R + jhX from its short-circuit power and "
             "X/R; transformer an ideal ratio with the vector group's phase shift and the "
             "leakage impedance from %Z and X/R, R ∝ √h; incomer R·√h + jhX; capacitor bank C "
             "from the kvar of the steps in service at the rated voltage (lossless); linear load "
@@ -475,7 +483,7 @@ TEMPLATE = Template(
             "IEEE Std C57.110 (transformer derating, formulas from memory); the 10 % resonance "
             "margin is common practice (from memory).",
         )),
-        ("Verdicts", cm.VERDICTS),
+        ("Verdicts", cm.verdicts(NA)),
         ("Using the book", USING),
     ),
 )

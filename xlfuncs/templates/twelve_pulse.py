@@ -45,6 +45,7 @@ from .plant import (
 N_ORD = len(cm.ORDERS)
 SPECTRUM = spectrum_grid(cm.ORDERS, cm.DRIVE_PCT)
 D2_ON = "d2_kw>0"
+NA = "the T2 current check with drive 2 off"
 
 INPUTS = (
     Section("Supply (utility at the point of common coupling)", (
@@ -124,7 +125,8 @@ CANCEL = Table("cancel", "Harmonic currents per order: each transformer vs the c
 
 
 def _v519(key: str, bus: str, title: str) -> Block:
-    return Block(key, title, f'CKT_BUS_V519({EQ},"{bus}",{SO})', cm.V519_COLS, 13)
+    return Block(key, title, f'CKT_BUS_V519({EQ},"{bus}",{SO})', cm.V519_COLS, 13,
+                 notes=cm.BASIS_CHARS)
 
 
 def _vchecks(key: str, where: str) -> tuple[Check, ...]:
@@ -187,7 +189,7 @@ RESULTS = (
     harmonics_block("it2", "T2 line current, HV side", f'CKT_BRANCH_HARMONICS({EQ},"T2",{SO})',
                     N_ORD + 3, v=False),
     Block("i519", "IEEE 519 current check at the PCC (the common feeder's current)",
-          f'CKT_BRANCH_I519({EQ},"K1",isc_a,i_l,{SO})', cm.V519_COLS, 14),
+          f'CKT_BRANCH_I519({EQ},"K1",isc_a,i_l,{SO})', cm.V519_COLS, 14, notes=cm.BASIS_CHARS),
     harmonics_block("vpcc", "PCC voltage per order (line-to-neutral)",
                     f'CKT_BUS_HARMONICS({EQ},"PCC",{SO})', N_ORD + 3, v=True),
     _v519("v519", "PCC", "IEEE 519 voltage check at the PCC"),
@@ -271,6 +273,7 @@ TEMPLATE = Template(
     data=DATA,
     key_results=("h5_fd_pct", "h7_fd_pct", "h11_fd_pct", "h13_fd_pct", "pcc_tdd_pct",
                  "pcc_thd_pct", "lv1_thd_pct", "t1_i_pu", "t1_imax_pu"),
+    na_example=NA,
     scenarios=Scenarios((
         Sweep("d2_kw", "drive 2 load", ("=d1_kw", "=d1_kw/2", 0), ("equal", "half", "off")),
         Sweep("ssc_mva", "utility short-circuit power", ("=ssc_min_mva", "=ssc_mva"),
@@ -293,7 +296,8 @@ TEMPLATE = Template(
             "common feeder carries the characteristic orders 12k ± 1 of a twelve-pulse "
             "converter.",
             EQ_NOTES,
-            "Models (docs/THREE_PHASE.md): utility R + jhX from its short-circuit power and "
+            "Models (xlfuncs documentation, \"Three-phase harmonic studies from equipment "
+            "ratings\", file docs/THREE_PHASE.md): utility R + jhX from its short-circuit power and "
             "X/R; feeder R·√h + jhX; transformers an ideal ratio with the vector group's shift "
             "and the leakage impedance from %Z and X/R, R ∝ √h; drives ideal current sources "
             "with the spectrum of the inputs.",
@@ -322,7 +326,7 @@ TEMPLATE = Template(
             "distortion by Isc/I_L); IEEE Std C57.110 (transformer derating, formulas from "
             "memory).",
         )),
-        ("Verdicts", cm.VERDICTS),
+        ("Verdicts", cm.verdicts(NA)),
         ("Using the book", USING),
     ),
 )
