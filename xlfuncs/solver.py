@@ -88,21 +88,24 @@ _NEAR_SINGULAR = 1e13  # ||A||·||x||/||b|| (a lower bound of cond) of the equil
 _REFINE_TARGET = 1e-15  # once refining, go on while above this and still improving ×2
 _MAX_REFINE = 5  # refinement steps per factorisation
 
-# --- method choice: a cost model measured with `make bench` (benchmarks/bench_solver.py,
-# section (d)) on random RLC networks, seconds on a 2-core machine (OpenBLAS, Haswell
-# kernels). Measured per frequency, dense path (assembly, equilibration, batched LU,
-# check): n = 9: 16 µs, 48: 97 µs, 100: 336 µs, 200: 1.71 ms; QZ once: 0.77 ms, 5.5 ms,
-# 33 ms, 249 ms; pencil path per frequency (back-substitution and check): 14, 48, 108,
-# 231 µs. Fitted:
+# --- method choice: a cost model measured on random RLC ladders (the method of
+# benchmarks/bench_solver.py, section (d), over n = 21 … 279 unknowns, two runs averaged),
+# seconds on a 2-core machine (OpenBLAS). Measured per frequency, dense path (assembly,
+# equilibration, batched LU, check): n = 21: 13–15 µs, 48: 50–104 µs, 100: 353–413 µs,
+# 200: 1.54–1.72 ms, 279: 3.4–3.8 ms; QZ once: 0.5, 2.9, 18–22, 132–144, 395–470 ms; pencil
+# path per frequency (back-substitution and check): 9, 20–22, 45–56, 96–126, 159–167 µs.
+# This shared machine's timings vary up to 2× between runs; the fit is least squares
+# relative to each measurement:
 #   dense   per frequency  t = _LU_N3·n³ + _LU_N2·n² + _LU_N0
 #   pencil  once           t = _QZ_N3·n³ + _QZ_N0
 #           per frequency  t = _BS_N2·n² + _BS_N1·n + _BS_N0
-# The pencil wins when F·(t_lu − t_bs) > t_qz: break-even near F ≈ 120 at n = 48, 150 at
-# n = 100, 170 at n = 200 (the old rule "F ≥ n/4" took the pencil at n = 200, F = 50,
-# where the model and the measurement give batched LU ~3× cheaper).
-_LU_N3, _LU_N2, _LU_N0 = 9.25e-11, 2.4e-8, 1.5e-5
-_QZ_N3, _QZ_N0 = 3.3e-8, 5.0e-4
-_BS_N2, _BS_N1, _BS_N0 = 2.7e-9, 1.1e-6, 5.0e-6
+# The pencil wins when F·(t_lu − t_bs) > t_qz: model break-even F ≈ 105 at n = 21, 50 at
+# n = 48, 67 at n = 100, 99 at n = 200, 118 at n = 279 (measured 90–140, 34–105, 48–75,
+# 83–100, 121–129). The old rule "F ≥ n/4" took the pencil at n = 200, F = 50, where
+# batched LU is about twice as cheap.
+_LU_N3, _LU_N2, _LU_N0 = 7.9e-11, 2.6e-8, 1.9e-6
+_QZ_N3, _QZ_N0 = 1.93e-8, 3.2e-4
+_BS_N2, _BS_N1, _BS_N0 = 6.3e-10, 4.0e-7, 6.5e-7
 # sparse direct beats dense LU from a few hundred unknowns on (sparse) MNA matrices:
 # measured on random RLC networks, per frequency: n = 100 sparse 495 µs vs dense 336 µs;
 # n = 200: 995 µs vs 1.71 ms; n = 400: 3.7 ms vs 9.5 ms
