@@ -381,6 +381,21 @@ def test_dc_link_noise_floor():
         if row[0] == "V_sw" and isinstance(row[4], (int, float)) and row[4] > 0:
             peaks[round(row[4] / 1e5)] = row[5]
     assert [n for n, v in peaks.items() if v == 0] == [4, 8, 12]
+    # Fourier series of a rectangular wave of duty D between 0 and V_in (common practice):
+    # harmonic n has peak 2·V_in/(nπ)·|sin(nπD)| and phase −n·180°·D (+180° where sin < 0);
+    # where sin(nπD) = 0 the harmonic is absent and has no phase (shown 0)
+    n_ = _named(TPL / "dc_link_ripple.xlsx")
+    vin, d = n_["v_in"], n_["duty"]
+    for row in src.iter_rows(values_only=True):
+        if row[0] == "V_sw" and isinstance(row[4], (int, float)) and row[4] > 0:
+            k = round(row[4] / (n_["f_sw_khz"] * 1e3))
+            s_k = math.sin(k * math.pi * d)
+            assert row[5] == pytest.approx(2 * vin / (k * math.pi) * abs(s_k), abs=1e-9)
+            if row[5] == 0:
+                assert row[6] == 0
+            else:
+                want = -k * 180 * d + (180 if s_k < 0 else 0)
+                assert abs((row[6] - want + 180) % 360 - 180) < 1e-9
     data = wb["Data"]
     heads = {data.cell(6, c).value: c for c in range(1, data.max_column + 1)}
     col = heads["v"]

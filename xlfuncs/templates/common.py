@@ -64,10 +64,13 @@ DUTY_UNITS = (("rms voltage", "V"), ("peak voltage", "V"), ("rms current", "A"),
               ("kvar", "kvar"))
 
 
-def duty_block(part: str, kvar: str, volts: str, when: str) -> Block:
+def duty_block(
+    part: str, kvar: str, volts: str, when: str,
+    title: str = "Capacitor duty (IEEE Std 18-2002 continuous limits)",
+) -> Block:
     return Block(
         "duty",
-        "Capacitor duty (IEEE Std 18-2002 continuous limits)",
+        title,
         f'CKT_CAPDUTY(parts_tbl,sources_tbl,"{part}",{kvar},{volts},opts)',
         (Col("quantity", width=16), Col("value", "2"), Col("rated", "2"), Col("ratio", "3"),
          Col("limit", "2"), Col("pass")),

@@ -64,7 +64,9 @@ SOURCES = Table("sources_tbl", "Sources (switch-node voltage: DC + harmonics; pe
     Row(("V_sw", "V", "SW", "GND", 0, "=v_in*duty", None), "DC level D·Vin"),
     *(Row(("V_sw", "V", "SW", "GND", f"={n}*f_sw_khz*1E3",
            f"=IF(ABS({SIN.format(n=n)})<{FLOOR},0,ABS(2*v_in/({n}*PI())*{SIN.format(n=n)}))",
-           "=" + wrap_deg(f"-{n}*180*duty+IF({SIN.format(n=n)}<0,180,0)")),
+           # a harmonic of zero amplitude (n·D whole) has no phase: 0, as the solver shows it
+           f"=IF(ABS({SIN.format(n=n)})<{FLOOR},0,"
+           + wrap_deg(f"-{n}*180*duty+IF({SIN.format(n=n)}<0,180,0)") + ")"),
           f"harmonic {n} of the rectangular switch-node voltage")
       for n in range(1, N_HARM + 1)),
 ), si_col="freq_hz:Hz")

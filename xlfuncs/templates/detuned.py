@@ -109,7 +109,11 @@ RESULTS = (
     Block("v519", "IEEE 519 voltage check at the bus", f'CKT_V519({ARGS},"BUS",v_ll/1000,opts)',
           cm.V519_COLS, 13, notes=cm.BASIS_CHARS),
     cm.resonance_block("30*f_hz", "Resonances seen at the bus (supply source shorted)"),
-    cm.duty_block("C_det", "bank_kvar/3", "cap_v_rated/SQRT(3)", WHEN),
+    cm.duty_block(
+        "C_det", "bank_kvar/3", "cap_v_rated/SQRT(3)", WHEN,
+        "Capacitor duty of one phase (IEEE Std 18-2002 continuous limits; the per-phase model: "
+        "line-to-neutral volts, a third of the bank's kvar)",
+    ),
 )
 
 CHECKS = (
