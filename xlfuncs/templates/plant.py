@@ -354,7 +354,7 @@ CHECKS = (
           "characteristic orders", rule=">=", applies="ISNUMBER(res_order)", fmt="1"),
     Check("Resonance order: scan vs rule of thumb", "=ABS(res_order/res_rule-1)*100", "=15", "%",
           "consistency: h ≈ √(S_sc/Q_cap), common practice (large X/R)", applies=BANK, fmt="1"),
-    Check("Transformer RMS current / permissible", "=tx_i_pu", "=tx_imax_pu", "pu",
+    Check("Transformer RMS current vs permissible", "=tx_i_pu", "=tx_imax_pu", "pu",
           "IEEE Std C57.110 (formulas from memory): maximum RMS current with this spectrum "
           "for the winding hot spot, from F_HL and P_EC-R", fmt="3"),
 )

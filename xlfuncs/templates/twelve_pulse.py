@@ -211,10 +211,10 @@ CHECKS = (
           "=0", "orders", "IEEE Std 519-2014 Table 2 (individual orders)", fmt="int"),
     *_vchecks("vl1", "LV1"),
     *_vchecks("vl2", "LV2"),
-    Check("T1 RMS current / permissible", "=t1_i_pu", "=t1_imax_pu", "pu",
+    Check("T1 RMS current vs permissible", "=t1_i_pu", "=t1_imax_pu", "pu",
           "IEEE Std C57.110 (formulas from memory): maximum RMS current with this spectrum "
           "for the winding hot spot", fmt="3"),
-    Check("T2 RMS current / permissible", "=t2_i_pu", "=t2_imax_pu", "pu",
+    Check("T2 RMS current vs permissible", "=t2_i_pu", "=t2_imax_pu", "pu",
           "IEEE Std C57.110 (formulas from memory), as for T1", applies=D2_ON, fmt="3"),
 )
 
