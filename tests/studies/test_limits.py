@@ -115,3 +115,20 @@ def test_current_check_uses_i_l_and_flags_dc():
     assert rows["h5"][1] == pytest.approx(4.0) and rows["h5"][2] == 7.0 and rows["h5"][3]
     assert rows["TDD"][1] == pytest.approx(4.0)  # TDD divides by I_L, not by I_1
     assert not rows["DC"][3] and not chk.passed  # DC offset is not allowed
+
+
+@pytest.mark.parametrize(
+    ("isc_il", "shown", "limit_h5"),
+    [
+        (14.4475, "Isc/IL 14.4:", 4.0),  # IEEE Std 519-2014 Table 2, row < 20: h < 11 limit 4.0 %
+        (19.996, "Isc/IL 19.996:", 4.0),  # still row < 20: not shown as 20
+        (20.0004, "Isc/IL 20:", 7.0),  # row 20 < 50: h < 11 limit 7.0 %
+        (87.1604, "Isc/IL 87.2:", 10.0),  # row 50 < 100: h < 11 limit 10.0 %
+    ],
+)
+def test_the_basis_shows_isc_il_in_the_row_it_selects(isc_il, shown, limit_h5):
+    f = np.array([60.0, 300.0])
+    rms = np.array([100.0, 1.0])
+    chk = check_current(f, rms, 60.0, i_l=100.0, isc_il=isc_il, bus_kv=13.8)
+    assert shown in chk.basis
+    assert dict((r[0], r[2]) for r in chk.rows)["h5"] == limit_h5

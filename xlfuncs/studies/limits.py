@@ -97,6 +97,17 @@ def _row(isc_il: float, bus_kv: float) -> tuple[tuple[float, ...], float]:
     return chosen[1], chosen[2]
 
 
+def _ratio_text(isc_il: float, bus_kv: float) -> str:
+    """Isc/IL to three significant figures, or as many more as it takes for the shown value
+    to fall in the same row of the table as the value itself (19.996 is not shown as 20)."""
+    row = _row(isc_il, bus_kv)
+    for digits in range(3, 17):
+        text = f"{isc_il:.{digits}g}"
+        if _row(float(text), bus_kv) == row:
+            return text
+    return repr(isc_il)
+
+
 def current_limit_pct(
     h: int, isc_il: float, bus_kv: float = 13.8, edition: int = 2014
 ) -> float | None:
@@ -221,7 +232,8 @@ def check_current(
     if dc > 0:
         rows.append(("DC", 100 * dc / i_l, 0.0, False))
     basis = (
-        f"IEEE Std 519-{edition} Tables 2-4, bus {bus_kv:g} kV, Isc/IL {isc_il:g}: % of I_L; "
+        f"IEEE Std 519-{edition} Tables 2-4, bus {bus_kv:g} kV, Isc/IL {_ratio_text(isc_il, bus_kv)}:"
+        " % of I_L; "
         f"even orders {'25 %' if edition == 2014 else '50 % (h<=6) / 100 %'} of the odd limit"
     )
     return CurrentCheck(tuple(rows), all(r[3] for r in rows), basis)
