@@ -181,10 +181,15 @@ def test_every_argument_has_a_help_text_with_an_example():
 
     ap = _parser()
     sub = next(a for a in ap._actions if a.__class__.__name__ == "_SubParsersAction")
-    for name, parser in sub.choices.items():
-        if name not in ("solve", "report", "scan", "recalc", "batch"):
-            continue  # commands of cli/network.py and cli/workbooks.py
+    parsers = dict(sub.choices)
+    for name, parser in sub.choices.items():  # subcommands of subcommands (duty …)
+        for a in parser._actions:
+            if a.__class__.__name__ == "_SubParsersAction":
+                parsers.update({f"{name} {k}": v for k, v in a.choices.items()})
+    for name, parser in parsers.items():
         for action in parser._actions:
+            if action.__class__.__name__ == "_SubParsersAction":
+                continue
             if action.dest == "help":
                 continue
             text = action.help or ""
@@ -236,3 +241,40 @@ def test_plain_tables_keep_six_significant_digits():
         format_table([["a", "bb"], [1.23456789, 2e4]])
         == "a        bb   \n-------  -----\n1.23457  20000"
     )
+
+
+def test_frequency_and_duty_commands_take_si_prefixes(capsys):
+    # the same numbers written with SI prefixes give the same output as written plainly
+    base = [str(EX / "readme_parts.csv"), str(EX / "readme_sources.csv"), "--source", "Vs"]
+    outs = []
+    for stop in ("1000", "1k", "1 kHz"):
+        assert main(["gain", *base, "--output", "out", "--f-start", "10", "--f-stop", stop]) == 0
+        outs.append(capsys.readouterr().out)
+    assert outs[0] == outs[1] == outs[2]
+    for l_h, c_f in (("0.00001", "0.0001"), ("10u", "100u"), ("10 µH", "100 µF")):
+        args = ["damping", "--l-h", l_h, "--c-f", c_f, "--v-in", "48", "--p-in", "200"]
+        assert main(args) == 0
+        outs.append(capsys.readouterr().out)
+    assert outs[3] == outs[4] == outs[5]
+    # RC low-pass noise over all frequencies is √(kT/C) (any circuits text; k exact, SI 2019)
+    args = ["noise", *base[:2], "--node", "out", "--f-start", "0", "--f-stop", "inf"]
+    assert main([*args, "--temperature-c", "25"]) == 0
+    total = next(ln for ln in capsys.readouterr().out.splitlines() if ln.startswith("total"))
+    assert float(total.split()[1]) == pytest.approx(
+        math.sqrt(1.380649e-23 * 298.15 / 1e-6), rel=1e-6
+    )
+
+
+def test_a_closed_pipe_ends_the_command_quietly():
+    # `xlfuncs … | head -1`: the reader goes away; no error line, the shell's status 141
+    cmd = [sys.executable, "-m", "xlfuncs", "scan", str(EX / "readme_parts.csv"), "--node",
+           "out", "--sources", str(EX / "readme_sources.csv"), "--f-start", "1", "--f-stop",
+           "1e6", "--points", "100000"]  # fmt: skip
+    p = subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.PIPE)
+    assert p.stdout is not None and p.stderr is not None
+    p.stdout.readline()
+    p.stdout.close()
+    err = p.stderr.read().decode()
+    p.stderr.close()
+    assert p.wait(timeout=120) == 141, err
+    assert err == ""

@@ -78,6 +78,14 @@ def main(argv: Sequence[str] | None = None) -> int:
     except MemoryError:
         print("xlfuncs: error: out of memory (a smaller input?)", file=sys.stderr)
         return 2
+    except BrokenPipeError:
+        # the reader of our output went away (`xlfuncs … | head`): as other command-line
+        # tools do, stop quietly; stdout goes to devnull so the interpreter's own flush at
+        # exit cannot fail again
+        with contextlib.suppress(OSError):
+            devnull = os.open(os.devnull, os.O_WRONLY)
+            os.dup2(devnull, sys.stdout.fileno())
+        return 141  # 128 + SIGPIPE, as a shell reports a process ended by it
     except OSError as exc:
         where = f" {exc.filename!r}" if getattr(exc, "filename", None) else ""
         print(f"xlfuncs: error: cannot use{where}: {exc.strerror or exc}", file=sys.stderr)

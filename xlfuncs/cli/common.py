@@ -6,7 +6,7 @@ from __future__ import annotations
 import argparse
 import csv
 import math
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any
 
@@ -153,6 +153,28 @@ def _number(text: str, unit: str | None, option: str) -> float:
 def hz_arg(text: str) -> float:
     """A frequency as the tables take it: ``5k``, ``5 kHz``, ``2.5e3``."""
     return _number(text, "Hz", "frequency")
+
+
+def number_arg(unit: str | None = None) -> Callable[[str], float]:
+    """A number as the tables take it, in ``unit`` (``48``, ``48 V``, ``10m``, ``4.7u``)."""
+
+    def parse(text: str) -> float:
+        return _number(text, unit, unit or "number")
+
+    parse.__name__ = f"number in {unit}" if unit else "number"
+    return parse
+
+
+def band_stop_arg(text: str) -> float:
+    """A band's last frequency: ``hz_arg``, or ``inf`` for all frequencies."""
+    if text.strip().lower() in ("inf", "infinity", "∞"):
+        return math.inf
+    return hz_arg(text)
+
+
+def count0_arg(text: str) -> int:
+    """A whole number ≥ 0."""
+    return 0 if text.strip() in ("0", "0.0") else count_arg(text)
 
 
 def count_arg(text: str) -> int:

@@ -8,7 +8,7 @@ import argparse
 from typing import Any
 
 from ..errors import InputError
-from .common import format_table, read_csv_table
+from .common import count_arg, format_table, hz_arg, number_arg, read_csv_table
 
 CAUTION = (
     "Screening calculation: check against measurements; the equipment makers, the utility "
@@ -47,12 +47,14 @@ def register(sub: Any) -> None:
     _spectrum_arg(x)
     x.add_argument(
         "--p-ec",
-        type=float,
+        type=number_arg(),
         required=True,
         help="rated winding eddy loss, pu of rated I²R (e.g. --p-ec 0.08)",
     )
     x.add_argument(
-        "--p-osl", type=float, help="rated other stray loss, pu of rated I²R (e.g. --p-osl 0.2)"
+        "--p-osl",
+        type=number_arg(),
+        help="rated other stray loss, pu of rated I²R (e.g. --p-osl 0.2)",
     )
     x.set_defaults(run=_xfmr)
 
@@ -63,18 +65,18 @@ def register(sub: Any) -> None:
     f.add_argument("type", choices=["tuned", "highpass"], help="filter type (e.g. tuned)")
     f.add_argument(
         "--kvar",
-        type=float,
+        type=number_arg(),
         required=True,
         help="kvar delivered at the fundamental (e.g. --kvar 300)",
     )
     f.add_argument(
         "--bus-v",
-        type=float,
+        type=number_arg(),
         required=True,
         help="bus voltage, V rms (line-to-line for --phases 3) (e.g. --bus-v 480)",
     )
     f.add_argument(
-        "--f1", type=float, required=True, help="fundamental frequency, Hz (e.g. --f1 60)"
+        "--f1", type=hz_arg, required=True, help="fundamental frequency, Hz (e.g. --f1 60)"
     )
     f.add_argument(
         "--phases",
@@ -85,48 +87,60 @@ def register(sub: Any) -> None:
     )
     f.add_argument(
         "--order",
-        type=float,
+        type=number_arg(),
         required=True,
         help="tuned (or corner) order h > 1 (e.g. --order 4.7)",
     )
     f.add_argument(
         "--q",
-        type=float,
+        type=number_arg(),
         required=True,
         help="quality factor: tuned X_n/R, high-pass R/X_n (e.g. --q 50)",
     )
-    f.add_argument("--ssc-mva", type=float, help="bus short-circuit MVA (e.g. --ssc-mva 30)")
     f.add_argument(
-        "--xr", type=float, help="supply X/R at the fundamental (with --ssc-mva; e.g. --xr 10)"
+        "--ssc-mva", type=number_arg(), help="bus short-circuit MVA (e.g. --ssc-mva 30)"
+    )
+    f.add_argument(
+        "--xr",
+        type=number_arg(),
+        help="supply X/R at the fundamental (with --ssc-mva; e.g. --xr 10)",
     )
     f.add_argument(
         "--harmonics",
         help="CSV with header order,amps: currents the filter absorbs (e.g. filter_i.csv)",
     )
-    f.add_argument("--cap-kvar", type=float, help="capacitor nameplate kvar (e.g. --cap-kvar 400)")
-    f.add_argument("--cap-v", type=float, help="capacitor rated volts (e.g. --cap-v 600)")
     f.add_argument(
-        "--c-tol-minus", type=float, help="capacitance tolerance below nominal (e.g. 0)"
+        "--cap-kvar", type=number_arg(), help="capacitor nameplate kvar (e.g. --cap-kvar 400)"
+    )
+    f.add_argument("--cap-v", type=number_arg(), help="capacitor rated volts (e.g. --cap-v 600)")
+    f.add_argument(
+        "--c-tol-minus", type=number_arg(), help="capacitance tolerance below nominal (e.g. 0)"
     )
     f.add_argument(
-        "--c-tol-plus", type=float, help="capacitance tolerance above nominal (e.g. 0.10)"
+        "--c-tol-plus", type=number_arg(), help="capacitance tolerance above nominal (e.g. 0.10)"
     )
-    f.add_argument("--l-tol", type=float, help="reactor tolerance, ± fraction (e.g. 0.03)")
-    f.add_argument("--c-tempco-ppm", type=float, default=0.0, help="capacitance ppm/K (e.g. -300)")
-    f.add_argument("--dt-k", type=float, default=0.0, help="± temperature excursion, K (e.g. 30)")
+    f.add_argument("--l-tol", type=number_arg(), help="reactor tolerance, ± fraction (e.g. 0.03)")
+    f.add_argument(
+        "--c-tempco-ppm", type=number_arg(), default=0.0, help="capacitance ppm/K (e.g. -300)"
+    )
+    f.add_argument(
+        "--dt-k", type=number_arg(), default=0.0, help="± temperature excursion, K (e.g. 30)"
+    )
     f.set_defaults(run=_filter)
 
     c = dsub.add_parser(
         "cap-step",
         help="smallest capacitor step whose parallel resonance avoids the injected orders",
     )
-    c.add_argument("--step-kvar", type=float, required=True, help="kvar per step (e.g. 50)")
-    c.add_argument("--max-steps", type=int, required=True, help="steps to try (e.g. 8)")
-    c.add_argument("--bus-v", type=float, required=True, help="bus volts (e.g. 480)")
-    c.add_argument("--f1", type=float, required=True, help="fundamental, Hz (e.g. 60)")
+    c.add_argument("--step-kvar", type=number_arg(), required=True, help="kvar per step (e.g. 50)")
+    c.add_argument("--max-steps", type=count_arg, required=True, help="steps to try (e.g. 8)")
+    c.add_argument("--bus-v", type=number_arg(), required=True, help="bus volts (e.g. 480)")
+    c.add_argument("--f1", type=hz_arg, required=True, help="fundamental, Hz (e.g. 60)")
     c.add_argument("--phases", type=int, required=True, choices=[1, 3], help="1 or 3 (e.g. 3)")
-    c.add_argument("--ssc-mva", type=float, required=True, help="short-circuit MVA (e.g. 30)")
-    c.add_argument("--xr", type=float, required=True, help="supply X/R (e.g. 10)")
+    c.add_argument(
+        "--ssc-mva", type=number_arg(), required=True, help="short-circuit MVA (e.g. 30)"
+    )
+    c.add_argument("--xr", type=number_arg(), required=True, help="supply X/R (e.g. 10)")
     c.add_argument(
         "--injected", required=True, help="injected orders, comma-separated (e.g. 5,7,11,13)"
     )
@@ -135,15 +149,15 @@ def register(sub: Any) -> None:
         required=True,
         help="least distance: orders (e.g. 0.3) or relative with %% (e.g. 10%%)",
     )
-    c.add_argument("--order", type=float, help="tuned order of a detuned bank (e.g. 4.7)")
-    c.add_argument("--q", type=float, help="quality factor of a detuned bank (e.g. 50)")
+    c.add_argument("--order", type=number_arg(), help="tuned order of a detuned bank (e.g. 4.7)")
+    c.add_argument("--q", type=number_arg(), help="quality factor of a detuned bank (e.g. 50)")
     c.set_defaults(run=_cap_step)
 
     k = dsub.add_parser(
         "cable", help="cable AC resistance at harmonics (IEC 60287-1-1) and harmonic loss ratio"
     )
     _spectrum_arg(k)
-    k.add_argument("--f1", type=float, required=True, help="fundamental, Hz (e.g. 50)")
+    k.add_argument("--f1", type=hz_arg, required=True, help="fundamental, Hz (e.g. 50)")
     _conductor_args(k, required=True)
     k.set_defaults(run=_cable)
 
@@ -152,30 +166,38 @@ def register(sub: Any) -> None:
         help="duty of an item of the three-phase equipment study: IEEE 1459 powers, and by "
         "kind transformer derating, capacitor or filter rating, cable loss",
     )
-    i.add_argument("equipment", help="equipment table (CSV, header row first)")
-    i.add_argument("--spectra", help="spectra table (CSV: spectrum,order,pct,phase_deg)")
+    i.add_argument("equipment", help="equipment table (CSV, header row first), e.g. equipment.csv")
     i.add_argument(
-        "--options", help="options table (CSV: key,value; fundamental_hz required, max_order)"
+        "--spectra",
+        help="spectra table (CSV: spectrum,order,pct,phase_deg), e.g. --spectra spectra.csv",
+    )
+    i.add_argument(
+        "--options",
+        help="options table (CSV: key,value; fundamental_hz required, max_order), e.g. --options options.csv",
     )
     i.add_argument("--item", required=True, help="item name (e.g. --item T1)")
     i.add_argument(
-        "--end", help="bus (default) or bus_to: the end of a transformer or cable for the powers"
+        "--end",
+        help="bus (default) or bus_to: the end of a transformer or cable for the powers, e.g. --end bus_to",
     )
     i.add_argument(
-        "--wiring", help="3ph4w or 3ph3w for the powers (default from the item's connection)"
+        "--wiring",
+        help="3ph4w or 3ph3w for the powers (default from the item's connection), e.g. --wiring 3ph3w",
     )
     i.add_argument(
         "--p-ec",
-        type=float,
+        type=number_arg(),
         help="transformer: rated winding eddy loss, pu of rated I²R (e.g. --p-ec 0.08)",
     )
     i.add_argument(
-        "--p-osl", type=float, help="transformer: rated other stray loss, pu (e.g. --p-osl 0.2)"
+        "--p-osl",
+        type=number_arg(),
+        help="transformer: rated other stray loss, pu (e.g. --p-osl 0.2)",
     )
     i.add_argument(
         "--winding-end",
         help="transformer: bus or bus_to, the end whose line current is the winding current "
-        "(default the star winding's)",
+        "(default the star winding's), e.g. --winding-end bus_to",
     )
     _conductor_args(i, required=False)
     i.set_defaults(run=_item)
@@ -191,13 +213,15 @@ def _conductor_args(parser: Any, required: bool) -> None:
     """The conductor of the IEC 60287-1-1 AC resistance (``duty cable``, ``duty item``)."""
     parser.add_argument(
         "--r-dc",
-        type=float,
+        type=number_arg(),
         required=required,
         help="DC resistance at operating temperature, ohm/km (e.g. --r-dc 0.0967)",
     )
-    parser.add_argument("--k-s", type=float, required=required, help="skin coefficient (e.g. 1)")
     parser.add_argument(
-        "--k-p", type=float, required=required, help="proximity coefficient (e.g. 1)"
+        "--k-s", type=number_arg(), required=required, help="skin coefficient (e.g. 1)"
+    )
+    parser.add_argument(
+        "--k-p", type=number_arg(), required=required, help="proximity coefficient (e.g. 1)"
     )
     parser.add_argument(
         "--arrangement",
@@ -205,8 +229,10 @@ def _conductor_args(parser: Any, required: bool) -> None:
         choices=["none", "2core", "3core", "3sector"],
         help="proximity arrangement (e.g. 3core)",
     )
-    parser.add_argument("--d-c", type=float, help="conductor diameter, mm (e.g. 18)")
-    parser.add_argument("--s", type=float, help="distance between conductor axes, mm (e.g. 24)")
+    parser.add_argument("--d-c", type=number_arg(), help="conductor diameter, mm (e.g. 18)")
+    parser.add_argument(
+        "--s", type=number_arg(), help="distance between conductor axes, mm (e.g. 24)"
+    )
     parser.add_argument(
         "--extrapolate",
         action="store_true",

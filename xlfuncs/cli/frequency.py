@@ -9,7 +9,30 @@ from typing import Any
 
 import numpy as np
 
-from .common import format_table, read_csv_table
+from .common import (
+    band_stop_arg,
+    count0_arg,
+    count_arg,
+    format_table,
+    hz_arg,
+    number_arg,
+    read_csv_table,
+)
+
+# argument help shared by the commands (each with an example)
+PARTS = "parts table (CSV, header row first), e.g. parts.csv"
+SOURCES = "sources table (CSV, header row first), e.g. sources.csv"
+KEPT = "sources table (CSV); zeroed but kept in the network, e.g. --sources sources.csv"
+OPTIONS = "options table (CSV of key,value rows), e.g. --options options.csv"
+QUANTITY = (
+    "V or I of a part or source output (default: I for a part, V for a node), e.g. --quantity V"
+)
+F_START = "first frequency, Hz, SI prefixes allowed, e.g. --f-start 10"
+F_STOP = "last frequency, e.g. --f-stop 100k"
+POINTS = "log-spaced rows (default 30), e.g. --points 60"
+V_IN = "converter input voltage, V, e.g. --v-in 48"
+P_IN = "converter input power, W, e.g. --p-in 200"
+MARGIN = "required margin, dB (default 6), e.g. --margin-db 6"
 
 _CONVENTIONS = (
     "gain = output / the named source's own value, every other source zeroed; dB = "
@@ -43,12 +66,14 @@ def register(sub: Any) -> None:
         "parallel and series resonances at a node (complete: from the natural frequencies)",
         "xlfuncs resonances parts.csv --node bus --f-start 50 --f-stop 2500 --sources s.csv",
     )
-    r.add_argument("parts", help="parts table (CSV, header row first)")
-    r.add_argument("--node", required=True, help="node at which the impedance is seen")
-    r.add_argument("--f-start", type=float, required=True, help="Hz")
-    r.add_argument("--f-stop", type=float, required=True, help="Hz")
-    r.add_argument("--sources", help="sources table (CSV); zeroed but kept in the network")
-    r.add_argument("--options", help="options table (CSV: key,value)")
+    r.add_argument("parts", help=PARTS)
+    r.add_argument(
+        "--node", required=True, help="node at which the impedance is seen, e.g. --node bus"
+    )
+    r.add_argument("--f-start", type=hz_arg, required=True, help=F_START)
+    r.add_argument("--f-stop", type=hz_arg, required=True, help=F_STOP)
+    r.add_argument("--sources", help=KEPT)
+    r.add_argument("--options", help=OPTIONS)
     r.set_defaults(run=_resonances)
 
     g = _parser(
@@ -58,15 +83,17 @@ def register(sub: Any) -> None:
         "xlfuncs gain parts.csv sources.csv --source Vin --output out --f-start 10 "
         "--f-stop 1e5 --points 30",
     )
-    g.add_argument("parts")
-    g.add_argument("sources")
-    g.add_argument("--source", required=True, help="input: a source of the sources table")
-    g.add_argument("--output", required=True, help="a node, part or source")
-    g.add_argument("--quantity", choices=["V", "I", "v", "i"], help="V or I of a part/source")
-    g.add_argument("--f-start", type=float, required=True, help="Hz")
-    g.add_argument("--f-stop", type=float, required=True, help="Hz")
-    g.add_argument("--points", type=int, default=30, help="log-spaced rows (default 30)")
-    g.add_argument("--options")
+    g.add_argument("parts", help=PARTS)
+    g.add_argument("sources", help=SOURCES)
+    g.add_argument(
+        "--source", required=True, help="input: a source of the sources table, e.g. --source Vin"
+    )
+    g.add_argument("--output", required=True, help="a node, part or source, e.g. --output out")
+    g.add_argument("--quantity", choices=["V", "I", "v", "i"], help=QUANTITY)
+    g.add_argument("--f-start", type=hz_arg, required=True, help=F_START)
+    g.add_argument("--f-stop", type=hz_arg, required=True, help=F_STOP)
+    g.add_argument("--points", type=count_arg, default=30, help=POINTS)
+    g.add_argument("--options", help=OPTIONS)
     g.set_defaults(run=_gain)
 
     p = _parser(
@@ -75,9 +102,9 @@ def register(sub: Any) -> None:
         "natural frequencies of the network: frequency, damping, Q, time constant",
         "xlfuncs poles parts.csv --sources sources.csv",
     )
-    p.add_argument("parts")
-    p.add_argument("--sources", help="sources table (CSV); zeroed but kept in the network")
-    p.add_argument("--options")
+    p.add_argument("parts", help=PARTS)
+    p.add_argument("--sources", help=KEPT)
+    p.add_argument("--options", help=OPTIONS)
     p.set_defaults(run=_poles)
 
     z = _parser(
@@ -86,12 +113,14 @@ def register(sub: Any) -> None:
         "zeros of the transfer function output / source (modes it does not see removed)",
         "xlfuncs zeros parts.csv sources.csv --source Vin --output out",
     )
-    z.add_argument("parts")
-    z.add_argument("sources")
-    z.add_argument("--source", required=True)
-    z.add_argument("--output", required=True)
-    z.add_argument("--quantity", choices=["V", "I", "v", "i"])
-    z.add_argument("--options")
+    z.add_argument("parts", help=PARTS)
+    z.add_argument("sources", help=SOURCES)
+    z.add_argument(
+        "--source", required=True, help="input: a source of the sources table, e.g. --source Vin"
+    )
+    z.add_argument("--output", required=True, help="a node, part or source, e.g. --output out")
+    z.add_argument("--quantity", choices=["V", "I", "v", "i"], help=QUANTITY)
+    z.add_argument("--options", help=OPTIONS)
     z.set_defaults(run=_zeros)
 
     pz = _parser(
@@ -100,14 +129,18 @@ def register(sub: Any) -> None:
         "impedance between two nodes, every source zeroed",
         "xlfuncs port-z parts.csv --node-a out --node-b GND --f-start 10 --f-stop 1e6",
     )
-    pz.add_argument("parts")
-    pz.add_argument("--node-a", required=True, help="the test current enters here")
-    pz.add_argument("--node-b", required=True, help="and leaves here (may be the reference)")
-    pz.add_argument("--f-start", type=float, required=True)
-    pz.add_argument("--f-stop", type=float, required=True)
-    pz.add_argument("--points", type=int, default=30)
-    pz.add_argument("--sources")
-    pz.add_argument("--options")
+    pz.add_argument("parts", help=PARTS)
+    pz.add_argument(
+        "--node-a", required=True, help="the test current enters here, e.g. --node-a out"
+    )
+    pz.add_argument(
+        "--node-b", required=True, help="and leaves here (may be the reference), e.g. --node-b GND"
+    )
+    pz.add_argument("--f-start", type=hz_arg, required=True, help=F_START)
+    pz.add_argument("--f-stop", type=hz_arg, required=True, help=F_STOP)
+    pz.add_argument("--points", type=count_arg, default=30, help=POINTS)
+    pz.add_argument("--sources", help=KEPT)
+    pz.add_argument("--options", help=OPTIONS)
     pz.set_defaults(run=_port_z)
 
     t = _parser(
@@ -117,15 +150,17 @@ def register(sub: Any) -> None:
         "xlfuncs twoport parts.csv --port-in in --port-out out --load RL --f-start 10 "
         "--f-stop 1e6",
     )
-    t.add_argument("parts")
-    t.add_argument("--port-in", required=True, help="node, or from,to")
-    t.add_argument("--port-out", required=True, help="node, or from,to")
-    t.add_argument("--load", required=True, help="the load part across the output port")
-    t.add_argument("--f-start", type=float, required=True)
-    t.add_argument("--f-stop", type=float, required=True)
-    t.add_argument("--points", type=int, default=30)
-    t.add_argument("--sources")
-    t.add_argument("--options")
+    t.add_argument("parts", help=PARTS)
+    t.add_argument("--port-in", required=True, help="node, or from,to, e.g. --port-in in")
+    t.add_argument("--port-out", required=True, help="node, or from,to, e.g. --port-out out,GND")
+    t.add_argument(
+        "--load", required=True, help="the load part across the output port, e.g. --load RL"
+    )
+    t.add_argument("--f-start", type=hz_arg, required=True, help=F_START)
+    t.add_argument("--f-stop", type=hz_arg, required=True, help=F_STOP)
+    t.add_argument("--points", type=count_arg, default=30, help=POINTS)
+    t.add_argument("--sources", help=KEPT)
+    t.add_argument("--options", help=OPTIONS)
     t.set_defaults(run=_twoport)
 
     m = _parser(
@@ -135,17 +170,31 @@ def register(sub: Any) -> None:
         "xlfuncs filter-margin parts.csv --port out --v-in 48 --p-in 200 --f-start 10 "
         "--f-stop 1e6 --sources sources.csv",
     )
-    m.add_argument("parts")
-    m.add_argument("--port", required=True, help="node, or from,to, where the converter connects")
-    m.add_argument("--v-in", type=float, required=True, help="converter input voltage, V")
-    m.add_argument("--p-in", type=float, required=True, help="converter input power, W")
-    m.add_argument("--f-start", type=float, required=True)
-    m.add_argument("--f-stop", type=float, required=True)
-    m.add_argument("--margin-db", type=float, default=6.0, help="required margin (default 6 dB)")
-    m.add_argument("--load", help="a part modelling the converter, taken out first")
-    m.add_argument("--points", type=int, default=30, help="rows of the impedance table")
-    m.add_argument("--sources", help="sources table: the supply as a voltage source (a short)")
-    m.add_argument("--options")
+    m.add_argument("parts", help=PARTS)
+    m.add_argument(
+        "--port",
+        required=True,
+        help="node, or from,to, where the converter connects, e.g. --port out",
+    )
+    m.add_argument("--v-in", type=number_arg("V"), required=True, help=V_IN)
+    m.add_argument("--p-in", type=number_arg("W"), required=True, help=P_IN)
+    m.add_argument("--f-start", type=hz_arg, required=True, help=F_START)
+    m.add_argument("--f-stop", type=hz_arg, required=True, help=F_STOP)
+    m.add_argument("--margin-db", type=number_arg(), default=6.0, help=MARGIN)
+    m.add_argument(
+        "--load", help="a part modelling the converter, taken out first, e.g. --load Rconv"
+    )
+    m.add_argument(
+        "--points",
+        type=count_arg,
+        default=30,
+        help="rows of the impedance table (default 30), e.g. --points 60",
+    )
+    m.add_argument(
+        "--sources",
+        help="sources table (CSV): the supply as a voltage source (a short), e.g. --sources s.csv",
+    )
+    m.add_argument("--options", help=OPTIONS)
     m.set_defaults(run=_filter_margin)
 
     d = _parser(
@@ -154,11 +203,15 @@ def register(sub: Any) -> None:
         "parallel R-C damping of an LC input filter that restores a margin against V²/P",
         "xlfuncs damping --l-h 10e-6 --c-f 100e-6 --v-in 48 --p-in 200 --margin-db 6",
     )
-    d.add_argument("--l-h", type=float, required=True, help="filter inductance, H")
-    d.add_argument("--c-f", type=float, required=True, help="filter capacitance, F")
-    d.add_argument("--v-in", type=float, required=True)
-    d.add_argument("--p-in", type=float, required=True)
-    d.add_argument("--margin-db", type=float, default=6.0)
+    d.add_argument(
+        "--l-h", type=number_arg("H"), required=True, help="filter inductance, H, e.g. --l-h 10u"
+    )
+    d.add_argument(
+        "--c-f", type=number_arg("F"), required=True, help="filter capacitance, F, e.g. --c-f 100u"
+    )
+    d.add_argument("--v-in", type=number_arg("V"), required=True, help=V_IN)
+    d.add_argument("--p-in", type=number_arg("W"), required=True, help=P_IN)
+    d.add_argument("--margin-db", type=number_arg(), default=6.0, help=MARGIN)
     d.set_defaults(run=_damping)
 
     n = _parser(
@@ -169,14 +222,39 @@ def register(sub: Any) -> None:
         "xlfuncs noise parts.csv sources.csv --node out --f-start 0 --f-stop inf "
         "--temperature-c 25",
     )
-    n.add_argument("parts")
-    n.add_argument("sources")
-    n.add_argument("--node", required=True)
-    n.add_argument("--f-start", type=float, required=True, help="Hz (0 allowed)")
-    n.add_argument("--f-stop", type=float, required=True, help="Hz (inf: all frequencies)")
-    n.add_argument("--temperature-c", type=float, required=True, help="resistor temperature, °C")
-    n.add_argument("--points", type=int, default=0, help="also print the density on N rows")
-    n.add_argument("--options")
+    n.add_argument("parts", help=PARTS)
+    n.add_argument(
+        "sources",
+        help="sources table (CSV) with noise rows (density, corner_hz), e.g. sources.csv",
+    )
+    n.add_argument(
+        "--node", required=True, help="node whose noise voltage is taken, e.g. --node out"
+    )
+    n.add_argument(
+        "--f-start",
+        type=hz_arg,
+        required=True,
+        help="first frequency, Hz (0 allowed), e.g. --f-start 0 or --f-start 10",
+    )
+    n.add_argument(
+        "--f-stop",
+        type=band_stop_arg,
+        required=True,
+        help="last frequency, Hz, or inf for all frequencies, e.g. --f-stop 100k",
+    )
+    n.add_argument(
+        "--temperature-c",
+        type=number_arg(),
+        required=True,
+        help="resistor temperature, °C, e.g. --temperature-c 25",
+    )
+    n.add_argument(
+        "--points",
+        type=count0_arg,
+        default=0,
+        help="also print the density on N log-spaced rows (default 0: none), e.g. --points 30",
+    )
+    n.add_argument("--options", help=OPTIONS)
     n.set_defaults(run=_noise)
 
 

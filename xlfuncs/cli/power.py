@@ -19,25 +19,31 @@ def register(sub: Any) -> None:
         "converters as constant power, then every harmonic order in its sequence network. "
         + CAUTION,
     )
-    s.add_argument("equipment", help="equipment table (CSV, header row first)")
-    s.add_argument("--spectra", help="spectra table (CSV: spectrum,order,pct,phase_deg)")
+    s.add_argument("equipment", help="equipment table (CSV, header row first), e.g. equipment.csv")
     s.add_argument(
-        "--options", help="options table (CSV: key,value; fundamental_hz required, max_order)"
+        "--spectra",
+        help="spectra table (CSV: spectrum,order,pct,phase_deg), e.g. --spectra spectra.csv",
     )
-    s.add_argument("--bus", required=True, help="bus whose harmonic voltages are printed")
+    s.add_argument(
+        "--options",
+        help="options table (CSV: key,value; fundamental_hz required, max_order), e.g. --options options.csv",
+    )
+    s.add_argument(
+        "--bus", required=True, help="bus whose harmonic voltages are printed, e.g. --bus PCC"
+    )
     s.add_argument(
         "--item",
         action="append",
         default=[],
         metavar="NAME",
-        help="also print the line currents of this item (repeatable)",
+        help="also print the line currents of this item (repeatable), e.g. --item T1",
     )
     s.add_argument(
         "--neutral",
         action="append",
         default=[],
         metavar="NAME",
-        help="also print the neutral current of this grounded star (repeatable)",
+        help="also print the neutral current of this grounded star (repeatable), e.g. --neutral T1",
     )
     s.set_defaults(run=_study)
 
