@@ -50,12 +50,17 @@ def write_cases(path: Path, n: int) -> Path:
 
 
 def wall(args: list[str], repeat: int = 5) -> float:
-    """Median wall time of a fresh process."""
+    """Median wall time of a fresh process that succeeds (a failed run is not a timing)."""
     times = []
     for _ in range(repeat):
         t0 = time.perf_counter()
-        subprocess.run(args, check=False, capture_output=True, env=ENV)
+        run = subprocess.run(args, check=False, capture_output=True, env=ENV)
         times.append(time.perf_counter() - t0)
+        if run.returncode != 0:
+            raise SystemExit(
+                f"benchmark run failed (exit {run.returncode}): {' '.join(args[2:])}: "
+                + run.stderr.decode(errors="replace").strip()[-500:]
+            )
     return statistics.median(times)
 
 
