@@ -278,3 +278,41 @@ def test_a_closed_pipe_ends_the_command_quietly():
     p.stderr.close()
     assert p.wait(timeout=120) == 141, err
     assert err == ""
+
+
+def test_an_unquoted_decimal_comma_is_refused_not_dropped(tmp_path, capsys):
+    # `1,5k` unquoted splits into two cells; the 5k must not vanish (R1 would read 1 Ω)
+    parts = tmp_path / "p.csv"
+    parts.write_text("name,kind,from,to,value\nR1,R,in,out,1,5k\nC1,C,out,GND,1u\n")
+    assert main(["solve", str(parts), str(EX / "readme_sources.csv"), "--target", "out"]) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "row 2: 6 cells but the header has 5" in err
+    # trailing empty cells (a spreadsheet's export) are fine
+    parts.write_text("name,kind,from,to,value,,\nR1,R,in,out,1k,,\nC1,C,out,GND,1u\n")
+    assert main(["solve", str(parts), str(EX / "readme_sources.csv"), "--target", "out"]) == 0
+
+
+def test_a_zero_signal_keeps_its_table_and_says_what_is_undefined(capsys):
+    args = ["solve", str(EX / "readme_parts.csv"), str(EX / "readme_sources.csv")]
+    assert main([*args, "--target", "GND"]) == 0
+    out = capsys.readouterr().out
+    assert "crest factor  n/a" in out and "THD           n/a" in out
+    assert main([*args, "--target", "out"]) == 0  # THD names the fundamental it used
+    assert "of the fundamental 50 Hz (the lowest tone" in capsys.readouterr().out
+
+
+def test_studies_that_zero_the_sources_warn_without_them(capsys):
+    parts = str(EX / "readme_parts.csv")
+    assert main(["poles", parts]) == 0
+    err = capsys.readouterr().err
+    assert err.startswith("xlfuncs: warning: poles without --sources")
+
+
+def test_a_spectrum_beyond_the_tables_range_is_refused(tmp_path, capsys):
+    sp = tmp_path / "s.csv"
+    sp.write_text("order,pct\n1,100\n5,1e300\n")
+    assert main(["duty", "xfmr", str(sp), "--p-ec", "0.08"]) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "spectrum row 3, column pct" in err
+    sp.write_text("Order,PCT (%)\n1,100\n5,20\n")  # headers as every table reads them
+    assert main(["duty", "xfmr", str(sp), "--p-ec", "0.08"]) == 0

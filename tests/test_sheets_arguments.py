@@ -210,7 +210,11 @@ def test_spectrum_cells_are_checked_where_the_user_sees_them():
         "ERROR: spectrum row 3, column pct: True — expected a percentage of I1 (a number ≥ 0)"
     )
     assert call("Id", "GND", "bus", 100.0, None, None, None, [head, [1, 100], [1e9, 3]]) == (
-        "ERROR: spectrum, column order: 1000000000.0 — expected orders up to 200"
+        "ERROR: spectrum row 3, column order: 1000000000.0 — expected at most 100,000 (the "
+        "tables' range)"
+    )
+    assert call("Id", "GND", "bus", 100.0, None, None, None, [head, [1, 100], [500, 3]]) == (
+        "ERROR: spectrum, column order: 500.0 — expected orders up to 200"
     )
     assert call("Id", "GND", "bus", 100.0, None, None, None, [head, [1, 100]]) == (
         "ERROR: spectrum, column order — no harmonic above order 1"

@@ -270,3 +270,15 @@ def test_cli_zeros(capsys, tmp_path):
     assert main(["zeros", str(p), str(s), "--source", "V", "--output", "out"]) == 0
     out = capsys.readouterr().out
     assert "5032.92" in out and "63.2456" in out  # f0 = 1/(2π√(LC)), Q = √(L/C)/R_L
+
+
+def test_a_node_floating_at_dc_gives_a_mode_at_zero_not_a_growing_one():
+    # a, b with R (a–GND), C1 (a–b), C2 (b–GND): det Y(s) = s·((C1+C2)/R + s·C1·C2), so the
+    # natural frequencies are s = 0 (b's charge is conserved) and s = −(C1+C2)/(R·C1·C2)
+    # (closed form of the 2-node admittance matrix)
+    parts = [["name", "kind", "from", "to", "value"],
+             ["R", "R", "a", "GND", 1e3], ["C1", "C", "a", "b", 1e-6],
+             ["C2", "C", "b", "GND", 1e-6]]  # fmt: skip
+    zero, real = network_poles(parts)
+    assert zero.s == 0 and zero.freq_hz == 0 and zero.damping is None
+    assert real.s.real == pytest.approx(-(2e-6) / (1e3 * 1e-12), rel=1e-9)

@@ -10,6 +10,8 @@ from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any
 
+import numpy as np
+
 from ..errors import InputError, XlfuncsError
 from ..tables import parse_cell
 
@@ -85,8 +87,12 @@ def format_table(
     no_prefix = [any(k in h.lower() for k in _NO_PREFIX) for h in header]
 
     def fmt(v: Any, col: int) -> str:
+        if isinstance(v, (np.floating, np.integer)):
+            v = float(v)
         if not isinstance(v, float):
             return str(v)
+        if not math.isfinite(v):  # a bug of ours: no non-finite number leaves the package
+            raise ValueError(f"format_table: {v!r} in column {header[col]!r}")
         return eng(v, prefix=not no_prefix[col]) if use_eng else f"{v:.6g}"
 
     cells = [header]
@@ -133,6 +139,14 @@ def read_csv_table(path: str | Path) -> list[list[Any]]:
                 raise XlfuncsFileError(
                     f"{str(p)!r} row 1: {name}-separated? the header {rows[0][0]!r} is one "
                     "column; save the table as comma-separated CSV"
+                )
+    if rows:
+        width = len(rows[0])
+        for num, r in enumerate(rows[1:], start=2):
+            if len(r) > width and any(c.strip() for c in r[width:]):
+                raise XlfuncsFileError(
+                    f"{str(p)!r} row {num}: {len(r)} cells but the header has {width} (a value "
+                    'with an unquoted comma? write 1.5k, or quote it: "1,5k")'
                 )
     return [[parse_cell(c) for c in r] for r in rows]
 

@@ -127,14 +127,20 @@ def _solve(args: argparse.Namespace) -> int:
         print(f"DC value      {eng(float(sp.dc), u)}")
         print(f"total RMS     {eng(float(sp.rms_total), u)}")
         print(f"true peak     {eng(float(pk.value), u)}  ({pk.method})")
-        print(f"crest factor  {eng(float(sp.crest_factor), prefix=False)}")
         try:
+            print(f"crest factor  {eng(float(sp.crest_factor), prefix=False)}")
+        except XlfuncsError as exc:  # a zero signal has none; the rest above stands
+            print(f"crest factor  n/a ({exc.expected if isinstance(exc, InputError) else exc})")
+        try:
+            thd = sp.thd_result()
+            basis = "the lowest tone, taken as the fundamental" if thd.assumed else "given"
             print(
-                f"THD           {100 * float(sp.thd()):.4g} %  (harmonics 2…"
-                f"{sol.circuit.options.thd_max_order} of the fundamental, DC excluded)"
+                f"THD           {100 * float(thd.value):.4g} %  (harmonics 2…{thd.max_order} "
+                f"of the fundamental {eng(float(thd.fundamental_hz), 'Hz')} ({basis}), "
+                "DC excluded)"
             )
         except XlfuncsError as exc:
-            print(f"THD           n/a ({exc})")
+            print(f"THD           n/a ({exc.expected if isinstance(exc, InputError) else exc})")
         return 0
 
     return _guarded(args, work)

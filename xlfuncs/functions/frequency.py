@@ -317,7 +317,7 @@ def _naturals_table(rows: Any, empty: str) -> list[list[Any]]:
     "negative when growing); q = 1/(2ζ); time_constant_s = −1/Re(s). `none` where undefined "
     "(lossless pair: ζ shown 0; pole at s = 0). Exact generalised eigenvalues of the network's "
     "matrices; eigenvalues beyond 1e10 × the network's mid frequency are infinite (algebraic "
-    "constraints) and left out.",
+    "constraints) and left out, those below 1e-8 × it are s = 0 (a node floating at DC).",
     call_in_wizard=False,
 )
 def CKT_POLES(parts, sources=None, options=None):

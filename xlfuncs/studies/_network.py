@@ -61,6 +61,12 @@ __all__ = [
 
 # |s| beyond INFINITE_RATIO·ω_ref: an infinite eigenvalue (an algebraic constraint)
 INFINITE_RATIO = 1e10
+# |s| at or below ZERO_RATIO·ω_ref: s = 0, a DC mode (the charge of a node that floats at
+# DC, a current circulating in a loop of inductors). The QZ reduction resolves an eigenvalue
+# at the origin only to about this much of the network's middle frequency, so the sign of a
+# smaller one is rounding noise: reporting it as a growing mode would be a false alarm.
+# A genuine mode this slow (28 h time constant against a 1 kHz network) is shown as s = 0.
+ZERO_RATIO = 1e-8
 # |Re s| ≤ AXIS_RTOL·|s|: on the jω axis (lossless), beyond what the eigenvalues resolve
 AXIS_RTOL = 1e-9
 # a pole and a zero closer than CANCEL_RTOL·|s| cancel (a mode the output does not see)
@@ -440,7 +446,8 @@ def finite_eigenvalues(
     Rule for infinite eigenvalues: the pencil is equilibrated (power-of-two row and column
     scaling of |A0| + ω_ref·|A1|) and reduced by QZ; an eigenvalue (α, β) is infinite when
     |s| = ω_ref·|α/β| > 1e10·ω_ref (β = 0 exactly for the structural constraints: nodes
-    without capacitance, voltage-defined branches). Without a given ω_ref (a band centre),
+    without capacitance, voltage-defined branches). One at |s| ≤ 1e-8·ω_ref is s = 0 (a DC
+    mode; see ``ZERO_RATIO``). Without a given ω_ref (a band centre),
     ω_ref is the geometric mean of |s| over a first pass's eigenvalues that are neither
     zero nor at the rounding level of β, i.e. the middle of the network's own spectrum.
     """
@@ -467,6 +474,7 @@ def finite_eigenvalues(
         s = w_ref * alpha[finite] / beta[finite]
     # a real pencil: keep conjugate pairs exact
     s = np.where(np.abs(s.imag) <= 1e-14 * np.abs(s), s.real + 0j, s)
+    s = np.where(np.abs(s) <= ZERO_RATIO * w_ref, 0j, s)
     return s, float(w_ref)
 
 

@@ -57,8 +57,9 @@ from typing import Any
 import numpy as np
 
 from ..errors import InputError, TableError
+from ..units import MAX_MAGNITUDE
 from .capacitor import capacitor_duty
-from .transformer import study_item
+from .transformer import MAX_ORDER, study_item
 
 __all__ = [
     "CapacitorStep",
@@ -516,6 +517,12 @@ def read_order_amps(data: Any, table: str = "harmonics") -> tuple[list[float], l
             )
         if a < 0:
             raise InputError(table, k, "amps", a, "expected a current ≥ 0 A rms")
+        if a > MAX_MAGNITUDE or h > MAX_ORDER:
+            col, v = ("amps", a) if a > MAX_MAGNITUDE else ("order", h)
+            raise InputError(
+                table, k, col, v,
+                f"expected at most {MAX_MAGNITUDE:g} A and order {MAX_ORDER:,} (the tables' range)",
+            )  # fmt: skip
         if any(abs(h - o) <= 1e-9 for o in orders):
             raise InputError(table, k, "order", h, "this order is given twice")
         orders.append(float(h))

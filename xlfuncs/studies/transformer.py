@@ -40,12 +40,14 @@ dry-type units, the remainder other stray loss.
 from __future__ import annotations
 
 import math
+import re
 from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 
 from ..errors import InputError, TableError
+from ..units import MAX_MAGNITUDE
 
 __all__ = [
     "STRAY_EXPONENT",
@@ -60,11 +62,17 @@ __all__ = [
 
 STRAY_EXPONENT = 0.8  # exponent of h in F_HL-STR (IEEE Std C57.110, from memory)
 _ORDER_ATOL = 1e-9
+# highest harmonic order a spectrum row may name (as the THD order limit of the tables)
+MAX_ORDER = 100_000
 _SPECTRUM_HEADERS = {"order": ("order", "h", "harmonic"), "pct": ("pct", "percent", "%")}
 
 
 def _norm(cell: Any) -> str:
-    return str(cell).strip().lower().replace(" ", "_") if cell is not None else ""
+    """A header as every table reads it: case, spaces and a trailing ``(note)`` ignored."""
+    if cell is None:
+        return ""
+    text = re.sub(r"\(.*\)\s*$", "", str(cell)).strip().lower()
+    return (text or str(cell).strip().lower()).replace(" ", "_")
 
 
 def read_harmonic_spectrum(
@@ -110,6 +118,13 @@ def read_harmonic_spectrum(
             raise InputError(table, k, "pct", pct, "expected a percentage of I1 (a number ≥ 0)")
         if pct < 0:
             raise InputError(table, k, "pct", pct, "expected a percentage of I1 ≥ 0")
+        if pct > MAX_MAGNITUDE or h > MAX_ORDER:
+            col, v, lim = (
+                ("pct", pct, f"{MAX_MAGNITUDE:g} %")
+                if pct > MAX_MAGNITUDE
+                else ("order", h, f"{MAX_ORDER:,}")
+            )
+            raise InputError(table, k, col, v, f"expected at most {lim} (the tables' range)")
         rounded = round(float(h), 9)
         if rounded in seen:
             raise InputError(
