@@ -180,7 +180,7 @@ def test_sources_table_errors(s, o, where, fragment):
             GOOD_PARTS,
             5.0,
             None,
-            "sources table: expected a range with a header row, got a single value 5.0",
+            "sources table: expected a range with a header row (a list of rows), got a single value 5.0",
         ),
     ],
 )
@@ -263,3 +263,20 @@ def test_unknown_target_is_named():
         "argument target: 'nope' — no part, source or node of that name; "
         "nodes: a, GND; parts: R1, C1; sources: Vs"
     )
+
+
+def test_tables_given_as_other_python_objects():
+    import numpy as np
+
+    parts = [["name", "kind", "from", "to", "value"], ["R1", "R", "in", "out", "1k"],
+             ["C1", "C", "out", "GND", "1u"]]  # fmt: skip
+    src = [["name", "kind", "from", "to", "freq_hz", "rms"], ["Vs", "V", "in", "GND", 50, 1]]
+    as_list = xlfuncs.solve(parts, src).voltage("out").rms_total
+    as_array = xlfuncs.solve(np.array(parts, dtype=object), src).voltage("out").rms_total
+    assert as_array == as_list  # a 2-D array is the same range
+    for bad, what in (({"a": 1}, "got a dict"), (np.array([1, 2]), "got a ndarray")):
+        with pytest.raises(TableError) as exc:
+            xlfuncs.solve(bad, src)
+        assert "\n" not in str(exc.value) and what in str(exc.value)
+    with pytest.raises(InputError, match=r"argument freqs_hz: -150.0 — frequency 2 of 2"):
+        xlfuncs.impedance_scan(parts, "out", [50, -150])

@@ -34,3 +34,14 @@ def test_a_cancelled_tone_shows_phase_zero_and_a_small_one_keeps_its_own():
     assert v.phase_deg[2] == pytest.approx(37.0, abs=1e-9)
     spill = FUNCTIONS["CKT_SOLVE"].call(PARTS, _sources(1e-4), "a")
     assert spill[2][0] == 250 and spill[2][3] == 0.0 and spill[3][3] == pytest.approx(37.0)
+
+
+def test_waveform_times_must_be_finite_and_near_enough_to_keep_the_phase():
+    from xlfuncs.errors import InputError
+
+    v = xlfuncs.solve(PARTS, _sources(1e-4)).voltage("a")
+    for bad in ([float("nan")], float("inf"), [1e9]):  # 1e9 s: 3.5e11 periods of 350 Hz
+        with pytest.raises(InputError, match="argument times_s"):
+            v.waveform(bad)
+    # x(0) = Σ Re(X_k) (closed form at t = 0): 2 V at 50 Hz, 0 at 250 Hz, 2e-6·cos 37° at 350
+    assert float(v.waveform([0.0])[0]) == pytest.approx(2 + 2e-6 * 0.7986355100472928, rel=1e-12)

@@ -22,6 +22,7 @@ from .circuit import Circuit
 from .errors import InputError, TableError
 from .solution import Solution
 from .solver import System, build_system
+from .tables import frequencies_arg
 
 __all__ = ["impedance_scan", "solve", "system_of", "transfer_impedance"]
 
@@ -84,9 +85,7 @@ def transfer_impedance(
     model, frequencies streamed in blocks, every frequency checked).
     """
     circuit = parts if isinstance(parts, Circuit) else Circuit.from_tables(parts, sources, options)
-    f = np.asarray(freqs_hz, dtype=float).reshape(-1)
-    if f.size == 0 or not np.all(np.isfinite(f)) or np.any(f < 0):
-        raise InputError("argument", None, "freqs_hz", None, "expected finite frequencies ≥ 0")
+    f = frequencies_arg(freqs_hz)
     idx = [
         _node_index(circuit, n, col) for n, col in ((inject_node, "node"), (measure_node, "node"))
     ]

@@ -752,8 +752,19 @@ class Spectrum:
         return ThdResult(value, f1, assumed, hmax, reference is not None)
 
     def waveform(self, times_s: np.ndarray) -> np.ndarray:
-        """x(t) at ``times_s`` (shape ``(T,)``) → ``(T, ...)``."""
+        """x(t) at ``times_s`` (shape ``(T,)``) → ``(T, ...)``; times must be finite."""
         t = np.asarray(times_s, dtype=float)
+        if not np.all(np.isfinite(t)):
+            bad = float(t.reshape(-1)[np.argmax(~np.isfinite(t.reshape(-1)))])
+            raise InputError("argument", None, "times_s", bad, "expected finite times in s")
+        fmax = float(np.max(self.freqs_hz)) if self.freqs_hz.size else 0.0
+        if t.size and fmax * float(np.max(np.abs(t))) > 1e9:
+            # beyond 1e9 periods the angle 2π·f·t keeps less than ~1e-6 rad of accuracy
+            raise InputError(
+                "argument", None, "times_s", float(np.max(np.abs(t))),
+                "more than 1e9 periods of the highest tone from t = 0: the tones' phases "
+                "are lost in double precision there; shift the time origin",
+            )  # fmt: skip
         e = np.exp(2j * np.pi * np.outer(t, self.freqs_hz))  # (T, F)
         flat = self.phasors.reshape(self.freqs_hz.size, -1)
         return np.real(e @ flat).reshape(t.shape + self.phasors.shape[1:])

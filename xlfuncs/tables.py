@@ -23,7 +23,9 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
-from .errors import InputError, TableError
+import numpy as np
+
+from .errors import InputError, TableError, quote
 from .units import parse_number
 
 __all__ = [
@@ -34,6 +36,7 @@ __all__ = [
     "PartRow",
     "SourceRow",
     "check_frequency",
+    "frequencies_arg",
     "name_key",
     "parse_cell",
     "read_options",
@@ -231,6 +234,23 @@ _HEADER_GAPS = re.compile(r"[\s\-]+")
 _SHEET_ERROR = re.compile(r"#(?:[A-Z0-9/_]+[!?]|N/A)")
 
 
+def frequencies_arg(freqs_hz: Any, column: str = "freqs_hz") -> np.ndarray:
+    """A 1-D array of frequencies for the API's scans: each 0 (DC) or inside
+    ``FREQ_RANGE_HZ``, else one line naming the first bad value and its position (from 1)."""
+    f = np.asarray(freqs_hz, dtype=float).reshape(-1)
+    if f.size == 0:
+        raise InputError("argument", None, column, [], "expected at least one frequency")
+    lo, hi = FREQ_RANGE_HZ
+    bad = ~np.isfinite(f) | ((f != 0) & ((f < lo) | (f > hi)))
+    if bad.any():
+        k = int(np.argmax(bad))
+        raise InputError(
+            "argument", None, column, float(f[k]),
+            f"frequency {k + 1} of {f.size}: expected 0 (DC) or {lo:g} … {hi:g} Hz",
+        )  # fmt: skip
+    return f
+
+
 def _norm_header(cell: Cell) -> str:
     text = "" if cell is None else str(cell)
     text = _PAREN.sub("", text).strip().lower()
@@ -244,8 +264,15 @@ def _is_blank(cell: Cell) -> bool:
 def _as_rows(data: Any, table: str) -> list[list[Cell]]:
     if data is None:
         raise TableError(table, "no range given (expected a header row and at least one row)")
+    if getattr(data, "ndim", None) == 2 and hasattr(data, "tolist"):  # a 2-D numpy array
+        data = data.tolist()
     if not isinstance(data, (list, tuple)):
-        raise TableError(table, f"expected a range with a header row, got a single value {data!r}")
+        what = (
+            f"a {type(data).__name__}"
+            if isinstance(data, (dict, set)) or hasattr(data, "ndim")
+            else f"a single value {quote(data)}"
+        )
+        raise TableError(table, f"expected a range with a header row (a list of rows), got {what}")
     rows: list[list[Cell]] = []
     for r in data:
         if isinstance(r, (list, tuple)):

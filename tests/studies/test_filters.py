@@ -475,3 +475,11 @@ def test_study_filter_losses_are_its_ieee1459_active_power(ssc, xr, kvar, h_t, q
     st_ = harmonic_study(eq, None, STUDY_OPTS)
     absorbed = item_powers(st_, "F1").P
     assert absorbed == pytest.approx(item_filter_rating(st_, "F1").loss_w, rel=1e-9)
+
+
+def test_a_percentage_typed_as_a_fraction_is_refused():
+    # capacitor tolerances are fractions well below 1 (e.g. −5 %/+10 %: common practice);
+    # `--c-tol-plus 10` means 10 %, not +1000 %: refused with the hint, never computed
+    with pytest.raises(InputError, match=r"argument c_tol_plus: 10 — .*10 % is 0.10"):
+        tuning_drift(4.7, 50, 0.0, 10, 0.03)
+    assert tuning_drift(4.7, 50, 0.0, 0.10, 0.03).low < 4.7

@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 from typing import Any
 
+from ..errors import InputError
 from ..power import CAUTION, NOT_MODELLED, harmonic_study
 from ..power.views import branch_table, bus_table, fundamental_table, neutral_table, thd_basis
 from .common import format_table, read_csv_table
@@ -53,16 +54,26 @@ def _study(args: argparse.Namespace) -> int:
     spectra = read_csv_table(args.spectra) if args.spectra else None
     options = read_csv_table(args.options) if args.options else None
     st = harmonic_study(eq, spectra, options)
+    # every name the user gave is resolved, and every table built, before anything prints:
+    # a typo is one line, not a line after half the results
+    bus = st.equipment.bus(args.bus)
+    for option, names in (("--item", args.item), ("--neutral", args.neutral)):
+        for name in names:
+            try:
+                st.equipment.item(name)
+            except InputError as exc:
+                raise InputError("argument", None, option, name, exc.expected) from None
+    out: list[str] = []
     fr = st.fundamental
-    print("Three-phase harmonic study (balanced; per phase, line-to-neutral)")
-    print(
+    out.append("Three-phase harmonic study (balanced; per phase, line-to-neutral)")
+    out.append(
         f"fundamental {st.f1:g} Hz: constant-power devices converged in {fr.iterations} "
         f"iterations, power mismatch {fr.mismatch:.1e}"
     )
-    print(format_table(fundamental_table(st)))
+    out.append(format_table(fundamental_table(st)))
     if fr.theta1_deg:
-        print()
-        print(
+        out.append("")
+        out.append(
             format_table(
                 [["device", "bus", "i1_rms", "theta1_deg"]]
                 + [
@@ -71,22 +82,23 @@ def _study(args: argparse.Namespace) -> int:
                 ]
             )
         )
-    bus = st.equipment.bus(args.bus)
-    print()
-    print(f"Bus {bus} ({st.bus_kv(bus):g} kV nominal): voltage per order (V rms, line-to-neutral)")
-    print(format_table(bus_table(st, bus)))
+    out.append("")
+    out.append(
+        f"Bus {bus} ({st.bus_kv(bus):g} kV nominal): voltage per order (V rms, line-to-neutral)"
+    )
+    out.append(format_table(bus_table(st, bus)))
     for name in args.item:
-        print()
-        print(f"Item {name}: line current from its bus (A rms)")
-        print(format_table(branch_table(st, name)))
+        out.append("")
+        out.append(f"Item {name}: line current from its bus (A rms)")
+        out.append(format_table(branch_table(st, name)))
     for name in args.neutral:
-        print()
-        print(f"Item {name}: neutral current (A rms)")
-        print(format_table(neutral_table(st, name)))
-    print()
-    print(thd_basis(st))
-    for note in st.assumptions:
-        print(f"assumed: {note}")
-    print(NOT_MODELLED)
-    print(CAUTION)
+        out.append("")
+        out.append(f"Item {name}: neutral current (A rms)")
+        out.append(format_table(neutral_table(st, name)))
+    out.append("")
+    out.append(thd_basis(st))
+    out.extend(f"assumed: {note}" for note in st.assumptions)
+    out.append(NOT_MODELLED)
+    out.append(CAUTION)
+    print("\n".join(out))
     return 0

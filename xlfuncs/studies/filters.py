@@ -381,7 +381,7 @@ def tuning_drift(
     h = _num(tuned_order, "tuned_order", "a tuned order > 1", low=1.0)
     f1 = _num(fundamental_hz, "fundamental_hz", "a fundamental frequency > 0 Hz")
     cm = _num(c_tol_minus, "c_tol_minus", "a fraction 0 ≤ tol < 1", strict=False)
-    cp = _num(c_tol_plus, "c_tol_plus", "a fraction ≥ 0", strict=False)
+    cp = _num(c_tol_plus, "c_tol_plus", "a fraction 0 ≤ tol < 1", strict=False)
     lt = _num(l_tol, "l_tol", "a fraction 0 ≤ tol < 1", strict=False)
     tc = c_tempco_ppm
     if isinstance(tc, bool) or not isinstance(tc, (int, float)) or not math.isfinite(tc):
@@ -390,12 +390,17 @@ def tuning_drift(
     temp = abs(tc) * 1e-6 * dt
     for name, value, frac in (
         ("c_tol_minus", c_tol_minus, cm),
+        ("c_tol_plus", c_tol_plus, cp),  # +100 % or more is a percentage typed as a fraction
         ("l_tol", l_tol, lt),
         ("c_tempco_ppm", c_tempco_ppm, temp),
     ):
         if frac >= 1:
             raise InputError(
-                "argument", None, name, value, "deviations must stay below 1 (100 %) of nominal"
+                "argument",
+                None,
+                name,
+                value,
+                "deviations must stay below 1 (100 %) of nominal; a fraction: 10 % is 0.10",
             )
     c_lo, c_hi = (1 - cm) * (1 - temp), (1 + cp) * (1 + temp)
     l_lo, l_hi = 1 - lt, 1 + lt

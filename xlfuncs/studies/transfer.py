@@ -31,6 +31,7 @@ import numpy as np
 from ..circuit import Circuit
 from ..errors import InputError, NetworkError
 from ..solver import System, build_system
+from ..tables import frequencies_arg
 from ._network import (
     MAX_EIG_UNKNOWNS,
     Functional,
@@ -120,9 +121,7 @@ def log_frequencies(
 
 
 def _freqs(freqs_hz: Any) -> np.ndarray:
-    f = np.asarray(freqs_hz, dtype=float).reshape(-1)
-    if f.size == 0 or not np.all(np.isfinite(f)) or np.any(f < 0):
-        raise InputError("argument", None, "freqs_hz", None, "expected finite frequencies ≥ 0")
+    f = frequencies_arg(freqs_hz)
     return f
 
 
