@@ -316,3 +316,17 @@ def test_a_spectrum_beyond_the_tables_range_is_refused(tmp_path, capsys):
     assert err.count("\n") == 1 and "spectrum row 3, column pct" in err
     sp.write_text("Order,PCT (%)\n1,100\n5,20\n")  # headers as every table reads them
     assert main(["duty", "xfmr", str(sp), "--p-ec", "0.08"]) == 0
+
+
+def test_study_resolves_every_name_before_printing(capsys):
+    pw = EX / "power"
+    args = ["study", str(pw / "equipment.csv"), "--spectra", str(pw / "spectra.csv"),
+            "--options", str(pw / "options.csv"), "--bus", "PCC"]  # fmt: skip
+    for extra, where in ((["--neutral", "T9"], "argument --neutral: 'T9'"),
+                         (["--item", "T9"], "argument --item: 'T9'")):  # fmt: skip
+        assert main([*args, *extra]) == 2
+        cap = capsys.readouterr()
+        assert cap.out == "" and cap.err.count("\n") == 1 and where in cap.err
+    assert main([*args[:-1], "PCX"]) == 2
+    cap = capsys.readouterr()
+    assert cap.out == "" and "argument bus: 'PCX'" in cap.err
