@@ -268,3 +268,11 @@ def test_output_files_get_the_umask_mode_or_keep_the_replaced_files_mode(book, t
     summary.chmod(0o664)
     _write_atomic_bytes(summary, b"case\n")
     assert summary.stat().st_mode & 0o777 == 0o664 and summary.read_bytes() == b"case\n"
+
+
+def test_the_output_keeps_the_inputs_ending(book, tmp_path):
+    # a workbook written under a .csv name opens as garbage in every program that trusts
+    # the ending; refused before anything is written
+    with pytest.raises(WorkbookError, match=r"give it the ending \.xlsx"):
+        recalc(book, tmp_path / "out.csv")
+    assert not (tmp_path / "out.csv").exists()

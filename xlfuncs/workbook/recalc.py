@@ -422,7 +422,12 @@ def recalc(
     t0 = time.perf_counter()
     target = Path(out) if out is not None else default_output(book)
     check_output_file(target)
-    pb = PreparedBook(book, limits)
+    pb = PreparedBook(book, limits)  # the input is checked first
+    want = Path(book).suffix.lower()
+    if target.suffix.lower() != want:  # a workbook named .csv (or .xlsm without its macros)
+        raise WorkbookError(
+            str(target), f"the output is a workbook like the input: give it the ending {want}"
+        )
     done = pb.evaluate(sets)
     report = pb.write(target, done)
     report.seconds = time.perf_counter() - t0
