@@ -175,7 +175,6 @@ def number_arg(unit: str | None = None) -> Callable[[str], float]:
     def parse(text: str) -> float:
         return _number(text, unit, unit or "number")
 
-    parse.__name__ = f"number in {unit}" if unit else "number"
     return parse
 
 
@@ -186,14 +185,18 @@ def band_stop_arg(text: str) -> float:
     return hz_arg(text)
 
 
+def _whole(text: str, least: int) -> int:
+    x = _number(text, None, "count")
+    if not x.is_integer() or x < least:
+        raise argparse.ArgumentTypeError(f"expected a whole number ≥ {least}, got {text!r}")
+    return int(x)
+
+
 def count0_arg(text: str) -> int:
-    """A whole number ≥ 0."""
-    return 0 if text.strip() in ("0", "0.0") else count_arg(text)
+    """A whole number ≥ 0 (SI prefixes allowed)."""
+    return _whole(text, 0)
 
 
 def count_arg(text: str) -> int:
     """A whole number ≥ 1 (SI prefixes allowed: ``1k`` = 1000)."""
-    x = _number(text, None, "count")
-    if not x.is_integer() or x < 1:
-        raise argparse.ArgumentTypeError(f"expected a whole number ≥ 1, got {text!r}")
-    return int(x)
+    return _whole(text, 1)

@@ -9,6 +9,7 @@ from typing import Any
 
 from ..errors import InputError
 from .common import count_arg, format_table, hz_arg, number_arg, read_csv_table
+from .power import EQUIPMENT_HELP, SPECTRA_HELP, STUDY_OPTIONS_HELP
 
 CAUTION = (
     "Screening calculation: check against measurements; the equipment makers, the utility "
@@ -166,14 +167,14 @@ def register(sub: Any) -> None:
         help="duty of an item of the three-phase equipment study: IEEE 1459 powers, and by "
         "kind transformer derating, capacitor or filter rating, cable loss",
     )
-    i.add_argument("equipment", help="equipment table (CSV, header row first), e.g. equipment.csv")
+    i.add_argument("equipment", help=EQUIPMENT_HELP)
     i.add_argument(
         "--spectra",
-        help="spectra table (CSV: spectrum,order,pct,phase_deg), e.g. --spectra spectra.csv",
+        help=SPECTRA_HELP,
     )
     i.add_argument(
         "--options",
-        help="options table (CSV: key,value; fundamental_hz required, max_order), e.g. --options options.csv",
+        help=STUDY_OPTIONS_HELP,
     )
     i.add_argument("--item", required=True, help="item name (e.g. --item T1)")
     i.add_argument(

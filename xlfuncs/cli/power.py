@@ -10,6 +10,11 @@ from ..power import CAUTION, NOT_MODELLED, harmonic_study
 from ..power.views import branch_table, bus_table, fundamental_table, neutral_table, thd_basis
 from .common import format_table, read_csv_table
 
+# argument help of the equipment-table commands (study, duty item)
+EQUIPMENT_HELP = "equipment table (CSV, header row first), e.g. equipment.csv"
+SPECTRA_HELP = "spectra table (CSV: spectrum,order,pct,phase_deg), e.g. --spectra spectra.csv"
+STUDY_OPTIONS_HELP = "options table (CSV: key,value; fundamental_hz required, max_order), e.g. --options options.csv"
+
 
 def register(sub: Any) -> None:
     """Add this module's command to the subparsers ``sub``."""
@@ -20,14 +25,14 @@ def register(sub: Any) -> None:
         "converters as constant power, then every harmonic order in its sequence network. "
         + CAUTION,
     )
-    s.add_argument("equipment", help="equipment table (CSV, header row first), e.g. equipment.csv")
+    s.add_argument("equipment", help=EQUIPMENT_HELP)
     s.add_argument(
         "--spectra",
-        help="spectra table (CSV: spectrum,order,pct,phase_deg), e.g. --spectra spectra.csv",
+        help=SPECTRA_HELP,
     )
     s.add_argument(
         "--options",
-        help="options table (CSV: key,value; fundamental_hz required, max_order), e.g. --options options.csv",
+        help=STUDY_OPTIONS_HELP,
     )
     s.add_argument(
         "--bus", required=True, help="bus whose harmonic voltages are printed, e.g. --bus PCC"

@@ -40,13 +40,13 @@ dry-type units, the remainder other stray loss.
 from __future__ import annotations
 
 import math
-import re
 from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 
 from ..errors import InputError, TableError
+from ..tables import _norm_header
 from ..units import MAX_MAGNITUDE
 
 __all__ = [
@@ -67,14 +67,6 @@ MAX_ORDER = 100_000
 _SPECTRUM_HEADERS = {"order": ("order", "h", "harmonic"), "pct": ("pct", "percent", "%")}
 
 
-def _norm(cell: Any) -> str:
-    """A header as every table reads it: case, spaces and a trailing ``(note)`` ignored."""
-    if cell is None:
-        return ""
-    text = re.sub(r"\(.*\)\s*$", "", str(cell)).strip().lower()
-    return (text or str(cell).strip().lower()).replace(" ", "_")
-
-
 def read_harmonic_spectrum(
     data: Any, table: str = "spectrum", min_order: float = 1.0
 ) -> tuple[np.ndarray, np.ndarray]:
@@ -89,7 +81,7 @@ def read_harmonic_spectrum(
     rows = [list(r) if isinstance(r, (list, tuple)) else [r] for r in data]
     if not rows:
         raise TableError(table, "empty: expected a header row order | pct and data rows")
-    head = [_norm(c) for c in rows[0]]
+    head = [_norm_header(c) for c in rows[0]]  # as every table reads its header
     cols: dict[str, int] = {}
     for key, names in _SPECTRUM_HEADERS.items():
         for k, name in enumerate(head):
