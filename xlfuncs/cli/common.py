@@ -6,6 +6,7 @@ from __future__ import annotations
 import argparse
 import csv
 import math
+import sys
 from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any
@@ -200,3 +201,17 @@ def count0_arg(text: str) -> int:
 def count_arg(text: str) -> int:
     """A whole number ≥ 1 (SI prefixes allowed: ``1k`` = 1000)."""
     return _whole(text, 1)
+
+
+def warn_without_sources(
+    args: argparse.Namespace, command: str, changes: str = "the result"
+) -> None:
+    """Commands that zero the sources: without the sources table a supply's nodes dangle and
+    the network studied is not the one drawn, so say so on stderr."""
+    if getattr(args, "sources", None) is None:
+        print(
+            f"xlfuncs: warning: {command} without --sources: parts that connect only to a "
+            f"source are left dangling and a supply's impedance is missing, which changes "
+            f"{changes}; give the sources table (sources are zeroed, not removed)",
+            file=sys.stderr,
+        )

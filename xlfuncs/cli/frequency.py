@@ -5,7 +5,6 @@ from __future__ import annotations
 
 import argparse
 import math
-import sys
 from typing import Any
 
 import numpy as np
@@ -18,6 +17,7 @@ from .common import (
     hz_arg,
     number_arg,
     read_csv_table,
+    warn_without_sources,
 )
 
 # argument help shared by the commands (each with an example)
@@ -277,20 +277,8 @@ def _fmt(v: float | None) -> Any:
     return "none" if v is None else float(v)
 
 
-def _warn_without_sources(args: argparse.Namespace, command: str) -> None:
-    """As for ``scan``: without the sources table, a supply's nodes dangle and the network
-    studied is not the one drawn."""
-    if getattr(args, "sources", None) is None:
-        print(
-            f"xlfuncs: warning: {command} without --sources: parts that connect only to a "
-            "source are left dangling and a supply's impedance is missing, which changes the "
-            "result; give the sources table (sources are zeroed, not removed)",
-            file=sys.stderr,
-        )
-
-
 def _resonances(args: argparse.Namespace) -> int:
-    _warn_without_sources(args, "resonances")
+    warn_without_sources(args, "resonances")
     from ..studies.resonance import find_resonances
 
     res = find_resonances(
@@ -363,7 +351,7 @@ def _naturals(rows: Any) -> str:
 
 
 def _poles(args: argparse.Namespace) -> int:
-    _warn_without_sources(args, "poles")
+    warn_without_sources(args, "poles")
     from ..studies.poles import network_poles
 
     rows = network_poles(
@@ -403,7 +391,7 @@ def _z_rows(f: np.ndarray, z: np.ndarray) -> list[list[Any]]:
 
 
 def _port_z(args: argparse.Namespace) -> int:
-    _warn_without_sources(args, "port-z")
+    warn_without_sources(args, "port-z")
     from ..studies.transfer import log_frequencies, port_impedance
 
     f = log_frequencies(args.f_start, args.f_stop, args.points)
@@ -421,7 +409,7 @@ def _port_z(args: argparse.Namespace) -> int:
 
 
 def _twoport(args: argparse.Namespace) -> int:
-    _warn_without_sources(args, "twoport")
+    warn_without_sources(args, "twoport")
     from ..studies.transfer import log_frequencies, two_port_impedances
 
     f = log_frequencies(args.f_start, args.f_stop, args.points)
@@ -451,7 +439,7 @@ def _twoport(args: argparse.Namespace) -> int:
 
 
 def _filter_margin(args: argparse.Namespace) -> int:
-    _warn_without_sources(args, "filter-margin")
+    warn_without_sources(args, "filter-margin")
     from ..studies.stability import input_filter_margin
 
     r = input_filter_margin(

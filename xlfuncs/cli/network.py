@@ -10,7 +10,15 @@ from typing import Any
 from ..api import impedance_scan, solve
 from ..errors import InputError, TableError, XlfuncsError
 from ..views import element_table, node_table, scan_freqs, scan_table, solve_table
-from .common import XlfuncsFileError, count_arg, eng, format_table, hz_arg, read_csv_table
+from .common import (
+    XlfuncsFileError,
+    count_arg,
+    eng,
+    format_table,
+    hz_arg,
+    read_csv_table,
+    warn_without_sources,
+)
 
 _PARTS_HELP = "parts table, CSV with a header row (name,kind,from,to,value), e.g. parts.csv"
 _SOURCES_HELP = (
@@ -162,13 +170,7 @@ def _report(args: argparse.Namespace) -> int:
 def _scan(args: argparse.Namespace) -> int:
     def work() -> int:
         f = scan_freqs(args.f_start, args.f_stop, args.points)
-        if args.sources is None:
-            print(
-                "xlfuncs: warning: scan without --sources: parts that connect only to a "
-                "source are left dangling and a supply's impedance is missing, which "
-                "changes |Z|; give the sources table (sources are zeroed, not removed)",
-                file=sys.stderr,
-            )
+        warn_without_sources(args, "scan", "|Z|")
         srcs = read_csv_table(args.sources) if args.sources else None
         freqs, zz = impedance_scan(read_csv_table(args.parts), args.node, f, _options(args), srcs)
         print(format_table(scan_table(freqs, zz), units=["Hz", "Ω", "°"]))
