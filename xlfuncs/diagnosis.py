@@ -75,35 +75,40 @@ class _DSU:
         return out[::-1]
 
 
+# the role of each kind's (first) branch in the structural checks
+_ROLE = {
+    "R": "conductor",
+    "L": "inductor",
+    "C": "capacitor",
+    "XFMR": "conductor",
+    "VCVS": "vsource",
+    "CCVS": "vsource",
+    "VCCS": "isource",
+    "CCCS": "isource",
+}
+
+
 def _edges(circuit: Circuit) -> Iterable[tuple[str, str, str, str]]:
     """(node a, node b, part name, role) for every two-terminal element."""
     for p in circuit.parts:
         if p.kind == "COUPLING":
             continue
-        role = {
-            "R": "conductor",
-            "L": "inductor",
-            "C": "capacitor",
-            "XFMR": "conductor",
-            "VCVS": "vsource",
-            "CCVS": "vsource",
-            "VCCS": "isource",
-            "CCCS": "isource",
-        }[p.kind]
-        yield p.from_node or "", p.to_node or "", p.name, role
+        yield p.from_node or "", p.to_node or "", p.name, _ROLE[p.kind]
         if p.kind == "XFMR":
             yield p.sec_from or "", p.sec_to or "", p.name, "conductor"
     for s in circuit.sources:
         yield s.from_node, s.to_node, s.name, "vsource" if s.kind == "V" else "isource"
 
 
-def dangling_nodes(circuit: Circuit) -> list[tuple[str, str, str | None]]:
+def dangling_nodes(
+    circuit: Circuit, edges: Sequence[tuple[str, str, str, str]] | None = None
+) -> list[tuple[str, str, str | None]]:
     """``(node, part, closest)`` for every node touched by exactly one terminal (and used
     by no control): ``part`` is the one element touching it, ``closest`` the most similar
     other node (names differing only in their digits, ``n1``/``n10``, do not count) or
     None. Such a part has an open end and carries no current."""
     touches: dict[str, list[str]] = {}
-    for a, c, name, _role in _edges(circuit):
+    for a, c, name, _role in _edges(circuit) if edges is None else edges:
         touches.setdefault(a, []).append(name)
         touches.setdefault(c, []).append(name)
     for p in circuit.parts:
@@ -167,7 +172,7 @@ def diagnose(circuit: Circuit, *, dc: bool) -> None:
             parts=parts,
             hint=_ground_hint(circuit, zero),
         )
-    for n, part, near in dangling_nodes(circuit):
+    for n, part, near in dangling_nodes(circuit, edges):
         ground_hint = _ground_hint(circuit, [n])
         if near is None and not ground_hint:
             continue
@@ -181,13 +186,20 @@ def diagnose(circuit: Circuit, *, dc: bool) -> None:
         )
 
     def floating(allowed: set[str]) -> list[str]:
-        dsu = _DSU()
-        dsu.find(g)
+        """Nodes that no path of ``allowed`` branches joins to the reference."""
+        adj: dict[str, list[str]] = {}
         for a, c, _n, role in edges:
             if role in allowed:
-                dsu.union(a, c)
-        root = dsu.find(g)
-        return [n for n in circuit.nodes if dsu.find(n) != root]
+                adj.setdefault(a, []).append(c)
+                adj.setdefault(c, []).append(a)
+        reached = {g}
+        todo = [g]
+        while todo:
+            for v in adj.get(todo.pop(), ()):
+                if v not in reached:
+                    reached.add(v)
+                    todo.append(v)
+        return [n for n in circuit.nodes if n not in reached]
 
     def cut(nodes: list[str], roles: set[str]) -> list[str]:
         inside = set(nodes)

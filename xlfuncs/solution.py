@@ -312,25 +312,26 @@ def _extrema_fft(h: np.ndarray, x: np.ndarray, m: int) -> _Extrema:
     d2 = (h[:, None] ** 2 * np.abs(x)).sum(axis=0)  # bound of |g''|
     delta = 2 * np.pi / m
     hi = h.astype(np.int64)
-    unique = np.unique(hi).size == hi.size
+    unique = len(set(hi.tolist())) == hi.size
     ramp = 1j * np.arange(m // 2 + 1)
-    per = max(1, _CHUNK_SAMPLES // m)
+    # three spectra and three sample arrays at once: as much memory as four arrays of
+    # _CHUNK_SAMPLES samples
+    per = max(1, 2 * _CHUNK_SAMPLES // (3 * m))
     for c0 in range(0, k, per):
         c1 = min(k, c0 + per)
         xc = x[:, c0:c1]
         n = c1 - c0
         rows = np.arange(n)
-        spec = np.zeros((n, m // 2 + 1), dtype=complex)
+        # spectra of g, g' and g'' side by side: one inverse FFT gives all three
+        spec = np.zeros((3, n, m // 2 + 1), dtype=complex)
         if unique:
-            spec[:, hi] = xc.T * (m / 2)
+            spec[0][:, hi] = xc.T * (m / 2)
         else:  # two frequencies of one order (merged within the tolerance): they add
             for j, hj in enumerate(hi.tolist()):
-                spec[:, hj] += xc[j] * (m / 2)
-        y = np.fft.irfft(spec, n=m, axis=-1)  # (n, m): g at θ_i = iδ
-        spec *= ramp
-        dy = np.fft.irfft(spec, n=m, axis=-1)  # g'
-        spec *= ramp
-        d2y = np.fft.irfft(spec, n=m, axis=-1)  # g''
+                spec[0][:, hj] += xc[j] * (m / 2)
+        np.multiply(spec[0], ramp, out=spec[1])
+        np.multiply(spec[1], ramp, out=spec[2])
+        y, dy, d2y = np.fft.irfft(spec, n=m, axis=-1)  # each (n, m): g, g', g'' at θ_i = iδ
         del spec
         i_hi, i_lo = y.argmax(axis=1), y.argmin(axis=1)
         top, bottom = y[rows, i_hi], -y[rows, i_lo]
@@ -456,7 +457,9 @@ def _newton(
     """Safeguarded Newton ascent of g(θ) = Re Σ xs e^{jhθ} (rows of ``xs``) within
     [lo, hi]; an ascent step where g is not concave. Returns the best value met, its θ
     and g'' there."""
-    w_re = np.stack([np.ones_like(h), -h * h], axis=1)  # g and g'' from Re
+    w_re = np.empty((h.size, 2))  # g and g'' from Re
+    w_re[:, 0] = 1.0
+    w_re[:, 1] = -h * h
     w_im = -h  # g' from Im
     best_v = np.full(th.size, -np.inf)
     best_t = th.copy()

@@ -17,6 +17,8 @@ inductances, capacitances and turns ratios at least 1e-24; source frequencies 0 
 
 from __future__ import annotations
 
+import dataclasses
+import functools
 import math
 import re
 from collections.abc import Sequence
@@ -140,6 +142,36 @@ class PartRow:
     tol_dist: str = "uniform"
 
 
+def _record_maker(cls: type) -> Any:
+    """A fast constructor for the frozen dataclass ``cls`` (which has no
+    ``__post_init__``), taking every field without a default by keyword: it fills the
+    instance's ``__dict__`` directly, where the generated ``__init__`` makes one
+    ``object.__setattr__`` call per field (3× slower on the parse hot path). The result
+    is an ordinary instance: equal, hashed and frozen like one made by ``cls(...)``."""
+    if hasattr(cls, "__post_init__") or hasattr(cls, "__slots__"):
+        raise TypeError(f"{cls.__name__}: needs its own __init__")
+    every = dataclasses.fields(cls)
+    defaults = {f.name: f.default for f in every if f.default is not dataclasses.MISSING}
+    required = frozenset(f.name for f in every if f.default is dataclasses.MISSING)
+    names = frozenset(f.name for f in every)
+    new = object.__new__
+
+    def make(**values: Any) -> Any:
+        keys = values.keys()
+        if not (required <= keys and keys <= names):
+            raise TypeError(f"{cls.__name__}: fields {sorted(keys)} do not match")
+        obj: Any = new(cls)
+        d = obj.__dict__
+        d.update(defaults)
+        d.update(values)
+        return obj
+
+    return make
+
+
+_new_part_row = _record_maker(PartRow)
+
+
 @dataclass(frozen=True)
 class SourceRow:
     """One tone of an independent source. ``phasor`` is the complex peak phasor
@@ -252,7 +284,13 @@ def frequencies_arg(freqs_hz: Any, column: str = "freqs_hz") -> np.ndarray:
 
 
 def _norm_header(cell: Cell) -> str:
-    text = "" if cell is None else str(cell)
+    return _norm_header_text("" if cell is None else str(cell))
+
+
+@functools.lru_cache(maxsize=4096)
+def _norm_header_text(text: str) -> str:
+    """The canonical spelling of a header text (a workbook repeats the same few headers
+    in every call, so the two substitutions are remembered)."""
     text = _PAREN.sub("", text).strip().lower()
     return _HEADER_GAPS.sub("_", text)
 
@@ -261,7 +299,7 @@ def _is_blank(cell: Cell) -> bool:
     return cell is None or (isinstance(cell, str) and cell.strip() == "")
 
 
-def _as_rows(data: Any, table: str) -> list[list[Cell]]:
+def _as_rows(data: Any, table: str) -> list[Sequence[Cell]]:
     if data is None:
         raise TableError(table, "no range given (expected a header row and at least one row)")
     if getattr(data, "ndim", None) == 2 and hasattr(data, "tolist"):  # a 2-D numpy array
@@ -273,15 +311,29 @@ def _as_rows(data: Any, table: str) -> list[list[Cell]]:
             else f"a single value {quote(data)}"
         )
         raise TableError(table, f"expected a range with a header row (a list of rows), got {what}")
-    rows: list[list[Cell]] = []
+    rows: list[Sequence[Cell]] = []
     for r in data:
         if isinstance(r, (list, tuple)):
-            rows.append(list(r))
+            rows.append(r)  # read only: no copy
         else:  # a single row or column delivered as a flat list
             raise TableError(
                 table, "expected a 2-D range (header row + rows), got a single row or column"
             )
     return rows
+
+
+_LOOKUPS: dict[int, tuple[dict[str, tuple[str, ...]], dict[str, str]]] = {}
+
+
+def _column_lookup(columns: dict[str, tuple[str, ...]]) -> dict[str, str]:
+    """alias → canonical column name of a column table, built once per table (the entry
+    keeps ``columns`` itself, so its id cannot be reused by another object)."""
+    hit = _LOOKUPS.get(id(columns))
+    if hit is not None and hit[0] is columns:
+        return hit[1]
+    lookup = {alias: canon for canon, aliases in columns.items() for alias in aliases}
+    _LOOKUPS[id(columns)] = (columns, lookup)
+    return lookup
 
 
 class _Table:
@@ -292,9 +344,9 @@ class _Table:
         rows = _as_rows(data, table)
         if not rows:
             raise TableError(table, "empty range (expected a header row and at least one row)")
-        lookup = {alias: canon for canon, aliases in columns.items() for alias in aliases}
+        lookup = _column_lookup(columns)
         self.col: dict[str, int] = {}
-        self.found = [str(c).strip() for c in rows[0] if not _is_blank(c)]
+        self._header = rows[0]
         for idx, cell in enumerate(rows[0]):
             canon = lookup.get(_norm_header(cell))
             if canon is None:
@@ -334,6 +386,11 @@ class _Table:
                 self.rows.append((i + 2, cells))
         if not self.rows:
             raise TableError(table, "no rows below the header")
+
+    @property
+    def found(self) -> list[str]:
+        """The header texts, as written (for messages)."""
+        return [str(c).strip() for c in self._header if not _is_blank(c)]
 
     def missing(self, what: str) -> TableError:
         found = ", ".join(self.found) if self.found else "none"
@@ -525,7 +582,7 @@ def read_parts(data: Any) -> tuple[PartRow, ...]:
                         "parts", rownum, "tol_dist", dist, "expected 'uniform' or 'normal'"
                     )
                 fields["tol_dist"] = d_txt
-        out.append(PartRow(row=rownum, name=name, kind=kind, value=value, **fields))
+        out.append(_new_part_row(row=rownum, name=name, kind=kind, value=value, **fields))
     return tuple(out)
 
 
