@@ -280,3 +280,28 @@ def test_tables_given_as_other_python_objects():
         assert "\n" not in str(exc.value) and what in str(exc.value)
     with pytest.raises(InputError, match=r"argument freqs_hz: -150.0 — frequency 2 of 2"):
         xlfuncs.impedance_scan(parts, "out", [50, -150])
+
+
+def test_parsed_part_rows_are_ordinary_frozen_records():
+    """The parser fills its records without the generated __init__: each must still be
+    equal to, hash like and stay as frozen as one made by PartRow(...)."""
+    import dataclasses
+
+    from xlfuncs.tables import PartRow, read_parts
+
+    rows = read_parts(
+        [
+            ["name", "kind", "from", "to", "value", "tolerance", "r_exponent"],
+            ["R1", "R", "a", "GND", "4k7", "5%", 0.5],
+            ["C1", "C", "a", "b", "1u", None, None],
+        ]
+    )
+    made = (
+        PartRow(2, "R1", "R", "a", "GND", 4700.0, r_exponent=0.5, tolerance=0.05),
+        PartRow(3, "C1", "C", "a", "b", 1e-6),
+    )
+    assert rows == made
+    assert [hash(r) for r in rows] == [hash(r) for r in made]
+    assert [dataclasses.asdict(r) for r in rows] == [dataclasses.asdict(r) for r in made]
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        rows[0].value = 1.0  # type: ignore[misc]

@@ -8,6 +8,8 @@ import math
 import numpy as np
 import pytest
 from helpers import parts, sources
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 import xlfuncs
 from xlfuncs import NetworkError, SingularNetworkError
@@ -127,3 +129,35 @@ def test_exact_resonance_inside_a_long_frequency_list(method):
         xlfuncs.system_of(circuit).solve(circuit.freqs_hz, method=method)
     assert exc.value.freq_hz == pytest.approx(f0)
     assert exc.value.nodes == ("n",)
+
+
+# An independent reference for the reachability check: scipy's connected components of
+# the graph of parts (current sources fix no voltage, so they are left out).
+@settings(max_examples=60, deadline=None)
+@given(
+    st.lists(
+        st.tuples(st.integers(0, 7), st.integers(0, 7)).filter(lambda e: e[0] != e[1]),
+        min_size=1,
+        max_size=12,
+    ),
+    st.sampled_from(["R", "L", "C"]),
+)
+def test_cut_off_nodes_are_those_scipy_finds_outside_the_references_component(edges, kind):
+    from scipy.sparse import coo_matrix
+    from scipy.sparse.csgraph import connected_components
+
+    name = ["GND", *[f"n{i}" for i in range(1, 8)]]
+    rows = [[f"P{j}", kind, name[a], name[b], 1.0] for j, (a, b) in enumerate(edges)]
+    used = sorted({i for e in edges for i in e} - {0})
+    src = sources(["Is", "I", "GND", name[used[0]], 50, 1, 0])
+    a = np.array([e[0] for e in edges])
+    b = np.array([e[1] for e in edges])
+    g = coo_matrix((np.ones(a.size), (a, b)), shape=(8, 8))
+    _n, label = connected_components(g, directed=False)
+    expected = {name[i] for i in used if label[i] != label[0]}
+    if expected:
+        err, msg = _diag(parts(*rows), src)
+        assert "cut off from the reference" in msg
+        assert set(err.nodes) == expected
+    else:
+        xlfuncs.solve(parts(*rows), src)  # connected: solves (R, L or C at 50 Hz)
