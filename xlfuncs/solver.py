@@ -67,7 +67,7 @@ import contextlib
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from functools import cached_property
-from typing import Any, NoReturn
+from typing import Any, Literal, NoReturn, overload
 
 import numpy as np
 
@@ -638,13 +638,18 @@ class System:
         refused where no accurate answer exists."""
         if how == "dense":
             return self._solve_dense_block(f, theta, b)
-        v = self._values(self._coef(f, theta))
+        if theta is None and not self.has_frequency_law:
+            v = self._pencil_values(f)
+        else:
+            v = self._values(self._coef(f, theta))
         absv = np.abs(v)
-        r, c = self._equilibration(absv)
+        r, c, abs_r = self._equilibration(absv, keep=True)
         pat = self._pattern
-        vs = v * np.take(r, pat.urows, axis=1) * np.take(c, pat.ucols, axis=1)
+        c_at = np.take(c, pat.ucols, axis=1)
+        vs = v * np.take(r, pat.urows, axis=1) * c_at
         bs = b * r
-        chk = _Checker(self, bs, vs=vs)
+        abs_r *= c_at  # |D_r·A·D_c| at the positions (powers of two: exact)
+        chk = _Checker(self, bs, vs=vs, anorm=self._row_reduce(abs_r, np.add).max(axis=1))
         if how == "pencil":
             y, ok = self._pencil_scaled(f, bs, r, c)
             chk.accept(y, ok)
@@ -704,13 +709,42 @@ class System:
             laws.append((int(p), pat))
         return a0, a1, laws
 
-    def _equilibration(self, absv: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    @overload
+    def _equilibration(
+        self, absv: np.ndarray, keep: Literal[False] = False
+    ) -> tuple[np.ndarray, np.ndarray]: ...
+
+    @overload
+    def _equilibration(
+        self, absv: np.ndarray, keep: Literal[True]
+    ) -> tuple[np.ndarray, np.ndarray, np.ndarray]: ...
+
+    def _equilibration(self, absv: np.ndarray, keep: bool = False) -> Any:
         """Row then column scaling by powers of two (exact) so that every row and column
-        of D_r·|A|·D_c has its largest entry in [0.5, 1); empty rows/columns keep 1."""
+        of D_r·|A|·D_c has its largest entry in [0.5, 1); empty rows/columns keep 1.
+        With ``keep``, also |D_r·A| at the positions (the caller's to reuse)."""
         rmax = self._row_reduce(absv, np.maximum)
         r = _pow2_inverse(rmax)
-        cmax = self._col_reduce(absv * np.take(r, self._pattern.urows, axis=1), np.maximum)
-        return r, _pow2_inverse(cmax)
+        abs_r = absv * np.take(r, self._pattern.urows, axis=1)
+        c = _pow2_inverse(self._col_reduce(abs_r, np.maximum))
+        return (r, c, abs_r) if keep else (r, c)
+
+    @cached_property
+    def _pencil_parts(self) -> tuple[np.ndarray, np.ndarray]:
+        """``(U,)`` real values of A0 and A1 at the structural positions (nominal values,
+        no resistance law): A(ω) there is A0 + jω·A1."""
+        const = np.where(self._is_jw, 0.0, self.theta)
+        jw = np.where(self._is_jw, self.theta, 0.0)
+        return self._values(const[None])[0], self._values(jw[None])[0]
+
+    def _pencil_values(self, f: np.ndarray) -> np.ndarray:
+        """``(M, U)`` values of A at frequencies ``f`` from the pencil parts (two passes
+        over the output instead of a gather and a segmented sum per frequency)."""
+        a0, a1 = self._pencil_parts
+        out = np.empty((f.size, a0.size), dtype=complex)
+        out.real[...] = a0
+        np.multiply((2 * np.pi * f)[:, None], a1, out=out.imag)
+        return out
 
     # ------------------------------------------------------------------------ pencil path
     @cached_property
