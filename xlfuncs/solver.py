@@ -1279,14 +1279,37 @@ class _Builder:
                 param += (p, p)
 
     def kcl(self, a: int, c: int, k: int) -> None:
-        """Branch current k leaves node a and enters node c."""
-        self.entry(a, k, +1.0, self.one)
-        self.entry(c, k, -1.0, self.one)
+        """Branch current k leaves node a and enters node c (``entry`` twice, inlined:
+        the hot path of every branch)."""
+        if k < 0:
+            return
+        rows, cols, signs, param, one = self.rows, self.cols, self.signs, self.param, self.one
+        if a >= 0:
+            rows.append(a)
+            cols.append(k)
+            signs.append(1.0)
+            param.append(one)
+        if c >= 0:
+            rows.append(c)
+            cols.append(k)
+            signs.append(-1.0)
+            param.append(one)
 
     def kvl(self, k: int, a: int, c: int) -> None:
-        """Row k gets + V(a) − V(c)."""
-        self.entry(k, a, 1.0, self.one)
-        self.entry(k, c, -1.0, self.one)
+        """Row k gets + V(a) − V(c) (``entry`` twice, inlined)."""
+        if k < 0:
+            return
+        rows, cols, signs, param, one = self.rows, self.cols, self.signs, self.param, self.one
+        if a >= 0:
+            rows.append(k)
+            cols.append(a)
+            signs.append(1.0)
+            param.append(one)
+        if c >= 0:
+            rows.append(k)
+            cols.append(c)
+            signs.append(-1.0)
+            param.append(one)
 
     def new_branch(self, label: str) -> int:
         self.labels.append(label)
