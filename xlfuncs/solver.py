@@ -1279,37 +1279,26 @@ class _Builder:
                 param += (p, p)
 
     def kcl(self, a: int, c: int, k: int) -> None:
-        """Branch current k leaves node a and enters node c (``entry`` twice, inlined:
-        the hot path of every branch)."""
-        if k < 0:
-            return
-        rows, cols, signs, param, one = self.rows, self.cols, self.signs, self.param, self.one
-        if a >= 0:
-            rows.append(a)
-            cols.append(k)
-            signs.append(1.0)
-            param.append(one)
-        if c >= 0:
-            rows.append(c)
-            cols.append(k)
-            signs.append(-1.0)
-            param.append(one)
+        """Branch current k leaves node a and enters node c."""
+        self._unit_pair(k, a, c, in_column=True)
 
     def kvl(self, k: int, a: int, c: int) -> None:
-        """Row k gets + V(a) − V(c) (``entry`` twice, inlined)."""
+        """Row k gets + V(a) − V(c)."""
+        self._unit_pair(k, a, c, in_column=False)
+
+    def _unit_pair(self, k: int, a: int, c: int, in_column: bool) -> None:
+        """+1 for unknown a and −1 for unknown c in column (KCL) or row (KVL) k, with the
+        constant parameter; the reference (−1) gets none. ``entry`` twice, inlined: the
+        hot path of every branch."""
         if k < 0:
             return
         rows, cols, signs, param, one = self.rows, self.cols, self.signs, self.param, self.one
-        if a >= 0:
-            rows.append(k)
-            cols.append(a)
-            signs.append(1.0)
-            param.append(one)
-        if c >= 0:
-            rows.append(k)
-            cols.append(c)
-            signs.append(-1.0)
-            param.append(one)
+        for node, sign in ((a, 1.0), (c, -1.0)):
+            if node >= 0:
+                rows.append(node if in_column else k)
+                cols.append(k if in_column else node)
+                signs.append(sign)
+                param.append(one)
 
     def new_branch(self, label: str) -> int:
         self.labels.append(label)
