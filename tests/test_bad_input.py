@@ -296,6 +296,7 @@ def test_parsed_part_rows_are_ordinary_frozen_records():
             ["C1", "C", "a", "b", "1u", None, None],
         ]
     )
+    # 4k7 = 4.7 kΩ (IEC 60062 letter-and-digit code), 5% = 0.05: common practice
     made = (
         PartRow(2, "R1", "R", "a", "GND", 4700.0, r_exponent=0.5, tolerance=0.05),
         PartRow(3, "C1", "C", "a", "b", 1e-6),

@@ -67,7 +67,7 @@ import contextlib
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from functools import cached_property
-from typing import Any, Literal, NoReturn, overload
+from typing import Any, NoReturn
 
 import numpy as np
 
@@ -643,7 +643,7 @@ class System:
         else:
             v = self._values(self._coef(f, theta))
         absv = np.abs(v)
-        r, c, abs_r = self._equilibration(absv, keep=True)
+        r, c, abs_r = self._equilibration(absv)
         pat = self._pattern
         c_at = np.take(c, pat.ucols, axis=1)
         vs = v * np.take(r, pat.urows, axis=1) * c_at
@@ -709,25 +709,15 @@ class System:
             laws.append((int(p), pat))
         return a0, a1, laws
 
-    @overload
-    def _equilibration(
-        self, absv: np.ndarray, keep: Literal[False] = False
-    ) -> tuple[np.ndarray, np.ndarray]: ...
-
-    @overload
-    def _equilibration(
-        self, absv: np.ndarray, keep: Literal[True]
-    ) -> tuple[np.ndarray, np.ndarray, np.ndarray]: ...
-
-    def _equilibration(self, absv: np.ndarray, keep: bool = False) -> Any:
+    def _equilibration(self, absv: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """Row then column scaling by powers of two (exact) so that every row and column
         of D_r·|A|·D_c has its largest entry in [0.5, 1); empty rows/columns keep 1.
-        With ``keep``, also |D_r·A| at the positions (the caller's to reuse)."""
+        Returns (r, c, |D_r·A| at the positions), the last for the caller to reuse."""
         rmax = self._row_reduce(absv, np.maximum)
         r = _pow2_inverse(rmax)
         abs_r = absv * np.take(r, self._pattern.urows, axis=1)
         c = _pow2_inverse(self._col_reduce(abs_r, np.maximum))
-        return (r, c, abs_r) if keep else (r, c)
+        return r, c, abs_r
 
     @cached_property
     def _pencil_parts(self) -> tuple[np.ndarray, np.ndarray]:
@@ -1143,7 +1133,7 @@ def _generic_singular(system: System, theta: np.ndarray) -> bool:
 
 def _scaled_matrix(system: System, coef: np.ndarray) -> np.ndarray:
     v = system._values(coef[None])
-    r, c = system._equilibration(np.abs(v))
+    r, c, _abs_r = system._equilibration(np.abs(v))
     pat = system._pattern
     return v * np.take(r, pat.urows, axis=1) * np.take(c, pat.ucols, axis=1)
 

@@ -322,29 +322,24 @@ def _as_rows(data: Any, table: str) -> list[Sequence[Cell]]:
     return rows
 
 
-_LOOKUPS: dict[int, tuple[dict[str, tuple[str, ...]], dict[str, str]]] = {}
+def _alias_map(columns: dict[str, tuple[str, ...]]) -> dict[str, str]:
+    """alias → canonical column name."""
+    return {alias: canon for canon, aliases in columns.items() for alias in aliases}
 
 
-def _column_lookup(columns: dict[str, tuple[str, ...]]) -> dict[str, str]:
-    """alias → canonical column name of a column table, built once per table (the entry
-    keeps ``columns`` itself, so its id cannot be reused by another object)."""
-    hit = _LOOKUPS.get(id(columns))
-    if hit is not None and hit[0] is columns:
-        return hit[1]
-    lookup = {alias: canon for canon, aliases in columns.items() for alias in aliases}
-    _LOOKUPS[id(columns)] = (columns, lookup)
-    return lookup
+# built once: every call reads its header through these
+_PART_ALIASES = _alias_map(_PART_COLUMNS)
+_SOURCE_ALIASES = _alias_map(_SOURCE_COLUMNS)
 
 
 class _Table:
     """Header map and, per non-blank row, the filled cells of the known columns."""
 
-    def __init__(self, data: Any, table: str, columns: dict[str, tuple[str, ...]]) -> None:
+    def __init__(self, data: Any, table: str, lookup: dict[str, str]) -> None:
         self.table = table
         rows = _as_rows(data, table)
         if not rows:
             raise TableError(table, "empty range (expected a header row and at least one row)")
-        lookup = _column_lookup(columns)
         self.col: dict[str, int] = {}
         self._header = rows[0]
         for idx, cell in enumerate(rows[0]):
@@ -543,7 +538,7 @@ _KIND_READERS = {
 
 def read_parts(data: Any) -> tuple[PartRow, ...]:
     """Parse the parts table. See README "Parts table" for the columns."""
-    t = _Table(data, "parts", _PART_COLUMNS)
+    t = _Table(data, "parts", _PART_ALIASES)
     t.require("name", "kind", "value")
     seen: dict[str, int] = {}
     out: list[PartRow] = []
@@ -647,7 +642,7 @@ def read_source_table(
     amplitude, phase and shape cells stay empty. Every other row is one tone.
     """
     opts = options or Options()
-    t = _Table(data, "sources", _SOURCE_COLUMNS)
+    t = _Table(data, "sources", _SOURCE_ALIASES)
     t.require("name", "kind", "from", "to")
     freq_cols = [c for c in _FREQ_COLUMNS if c in t.col]
     amp_cols = [c for c in _AMP_COLUMNS if c in t.col]
