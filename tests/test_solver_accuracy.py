@@ -7,6 +7,8 @@ import mpmath
 import numpy as np
 import pytest
 from helpers import parts, sources
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 import xlfuncs
 from xlfuncs import SingularNetworkError
@@ -265,3 +267,61 @@ def test_singular_at_one_frequency_still_names_that_frequency():
         with pytest.raises(SingularNetworkError) as exc:
             xlfuncs.system_of(circuit).solve(circuit.freqs_hz, method=method)
         assert exc.value.freq_hz == pytest.approx(f0), method
+
+
+@st.composite
+def checked_answers(draw):
+    """Stacked complex systems, right-hand sides (some all zero) and answers near, at or
+    far from the solution, some with a NaN or an infinity in them."""
+    m, n = draw(st.integers(1, 4)), draw(st.integers(1, 5))
+    rng = np.random.default_rng(draw(st.integers(0, 2**32 - 1)))
+    a = rng.normal(size=(m, n, n)) + 1j * rng.normal(size=(m, n, n)) + 3 * np.eye(n)
+    b = rng.normal(size=(m, n)) + 1j * rng.normal(size=(m, n))
+    zero = np.array(draw(st.lists(st.booleans(), min_size=m, max_size=m)))
+    b[zero] = 0
+    y = np.linalg.solve(a, b[..., None])[..., 0]
+    y += draw(st.sampled_from([0.0, 1e-14, 1e-6, 1.0])) * rng.normal(size=(m, n))
+    for row in np.flatnonzero(rng.random(m) < draw(st.sampled_from([0.0, 0.3]))):
+        y[row, rng.integers(n)] = draw(st.sampled_from([np.nan, np.inf, -np.inf]))
+    return a, b, y
+
+
+def _eta_reference(a: np.ndarray, b: np.ndarray, y: np.ndarray) -> tuple[list, list]:
+    """The definition, one matrix at a time: the normwise backward error
+    η = ‖b − Ay‖∞ / (‖A‖∞‖y‖∞ + ‖b‖∞) (Rigal and Gaches 1967; N. J. Higham, Accuracy
+    and Stability of Numerical Algorithms, 2nd ed., SIAM 2002, Theorem 7.1), with the
+    module's conventions: for b = 0 only y = 0 is right (η 0, else ∞); an answer that is
+    not finite has η = ∞ and is near-singular; otherwise near-singular when the lower
+    bound ‖A‖∞‖y‖∞/‖b‖∞ of cond∞(A) exceeds 1e13."""
+    etas, nears = [], []
+    for am, bm, ym in zip(a, b, y, strict=True):
+        an = np.abs(am).sum(axis=1).max()
+        yn, bn = np.abs(ym).max(), np.abs(bm).max()
+        if not np.isfinite(ym).all():
+            etas.append(np.inf)
+            nears.append(True)
+        elif bn == 0:
+            etas.append(0.0 if yn == 0 else np.inf)
+            nears.append(False)
+        else:
+            etas.append(np.abs(bm - am @ ym).max() / (an * yn + bn))
+            nears.append(not an * yn / bn <= 1e13)
+    return etas, nears
+
+
+@settings(max_examples=150, deadline=None)
+@given(checked_answers())
+def test_residual_check_follows_its_definition(case):
+    a, b, y = case
+    chk = solver_mod._Checker(
+        xlfuncs.system_of(_rc_ladder_circuit()),  # the dense path reads only the stack
+        b,
+        dense=a,
+        anorm=np.abs(a).sum(axis=2).max(axis=1),
+    )
+    with np.errstate(invalid="ignore"):  # the product with a NaN or ∞ answer
+        chk.accept(y, np.ones(a.shape[0], dtype=bool))
+    eta, near = _eta_reference(a, b, y)
+    # the same operations in the same order: equal but for the summation order of A·y
+    np.testing.assert_allclose(chk.eta, eta, rtol=1e-12, atol=0)
+    assert chk.singular.tolist() == near

@@ -998,7 +998,7 @@ class _Checker:
         self.singular = np.zeros(m, dtype=bool)
         self.tried_second = np.zeros(m, dtype=bool)
 
-    def _matvec(self, idx: np.ndarray, y: np.ndarray) -> np.ndarray:
+    def _matvec(self, idx: np.ndarray | slice, y: np.ndarray) -> np.ndarray:
         if self.dense is not None:
             return (self.dense[idx] @ y[..., None])[..., 0]
         assert self.vs is not None
@@ -1010,22 +1010,28 @@ class _Checker:
         assert self.vs is not None
         return self.system._dense(self.vs[m : m + 1])[0]
 
-    def _measure(self, idx: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    def _measure(self, idx: np.ndarray | slice, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(η, near-singular) of answers ``y`` of the matrices ``idx``. The max of |y|
+        carries any NaN or inf of y, so one reduction tells finite answers apart."""
         res = self.bs[idx] - self._matvec(idx, y)
+        an, bn = self.anorm[idx], self.bnorm[idx]
         with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
             yn = np.abs(y).max(axis=1)
-            eta = np.abs(res).max(axis=1) / (self.anorm[idx] * yn + self.bnorm[idx])
-            eta = np.where(self.bnorm[idx] > 0, eta, np.where(yn > 0, np.inf, 0.0))
-            kappa = np.where(self.bnorm[idx] > 0, self.anorm[idx] * yn / self.bnorm[idx], 0.0)
-        finite = np.isfinite(y).all(axis=1)
+            an_yn = an * yn
+            eta = np.abs(res).max(axis=1) / (an_yn + bn)
+            kappa = an_yn / bn
+        finite = np.isfinite(yn)
+        if not bn.all():  # b = 0: only y = 0 is right, and no bound of cond is known
+            zero_b = bn == 0
+            eta = np.where(zero_b, np.where(yn > 0, np.inf, 0.0), eta)
+            kappa = np.where(zero_b, 0.0, kappa)
         eta = np.where(finite, eta, np.inf)
         near = ~finite | ~(kappa <= _NEAR_SINGULAR)
         return eta, near
 
     def accept(self, y: np.ndarray, ok: np.ndarray) -> None:
-        idx = np.arange(y.shape[0])
         self.y = y
-        eta, near = self._measure(idx, y)
+        eta, near = self._measure(slice(None), y)
         self.eta = eta
         self.singular = near | ~ok
 
