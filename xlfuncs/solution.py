@@ -457,23 +457,28 @@ def _newton(
     """Safeguarded Newton ascent of g(θ) = Re Σ xs e^{jhθ} (rows of ``xs``) within
     [lo, hi]; an ascent step where g is not concave. Returns the best value met, its θ
     and g'' there."""
-    w_re = np.empty((h.size, 2))  # g and g'' from Re
-    w_re[:, 0] = 1.0
-    w_re[:, 1] = -h * h
-    w_im = -h  # g' from Im
+    # columns of Re(z @ w): g, −g' and g'' (one complex product per step)
+    w = np.empty((h.size, 3), dtype=complex)
+    w[:, 0] = 1.0
+    w[:, 1] = -1j * h
+    w[:, 2] = -h * h
+    jh = 1j * h
     best_v = np.full(th.size, -np.inf)
     best_t = th.copy()
     best_g2 = np.zeros(th.size)
+    quarter = half / 4
     for _ in range(12):
-        z = xs * np.exp(1j * np.multiply.outer(th, h))
-        g0g2 = z.real @ w_re
-        g, g2 = g0g2[:, 0], g0g2[:, 1]
-        upd = g > best_v
-        best_v[upd], best_t[upd], best_g2[upd] = g[upd], th[upd], g2[upd]
-        g1 = z.imag @ w_im
+        g = ((xs * np.exp(np.multiply.outer(th, jh))) @ w).real
+        g0, neg_g1, g2 = g[:, 0], g[:, 1], g[:, 2]
+        upd = g0 > best_v
+        best_v = np.where(upd, g0, best_v)
+        best_t = np.where(upd, th, best_t)
+        best_g2 = np.where(upd, g2, best_g2)
         concave = g2 < 0
-        step = np.where(concave, -g1 / np.where(concave, g2, -1.0), np.sign(g1) * half / 4)
-        new = np.clip(th + step, lo, hi)
+        # Newton where concave, else an ascent step of a quarter of the half-width
+        step = np.sign(neg_g1) * -quarter
+        np.divide(neg_g1, g2, out=step, where=concave)
+        new = np.minimum(np.maximum(th + step, lo), hi)
         # a step below 1e-10 rad changes g by ~g''·1e-20 at a maximum: converged
         if np.abs(new - th).max() <= 1e-10:
             break
