@@ -135,3 +135,32 @@ def test_auto_picks_sparse_for_large_networks(n_sec):
         prev = f"n{k}"
     system = xlfuncs.system_of(xlfuncs.Circuit.from_tables(p, None))
     assert system._choose_method(50, "auto", sets=False) == "sparse"
+
+
+@settings(max_examples=200, deadline=None)
+@given(
+    st.lists(st.sampled_from([0, 1, 2, 3, 4, 5, 8, 9, 17]), min_size=1, max_size=25),
+    st.integers(1, 4),
+    st.integers(0, 2**32 - 1),
+)
+def test_run_reductions_match_numpy_reduceat(lengths, m, seed):
+    # rows (or columns) of A as runs of positions: empty, short and longer than a short
+    # run (8); the reference is numpy's own segmented reduction
+    from xlfuncs.solver import _Segments
+
+    assume(sum(lengths) > 0)
+    n = len(lengths)
+    rows = np.repeat(np.arange(n), lengths)
+    starts = np.flatnonzero(np.concatenate([[True], rows[1:] != rows[:-1]]))
+    rng = np.random.default_rng(seed)
+    pos = rng.permutation(rows.size)
+    vals = np.abs(rng.normal(size=(m, rows.size)) * 10.0 ** rng.integers(-6, 7, rows.size))
+    runs = _Segments.of(pos, starts, rows[starts], n)
+    for ufunc in (np.maximum, np.add):
+        ref = np.zeros((m, n))
+        ref[:, rows[starts]] = ufunc.reduceat(vals[:, pos], starts, axis=1)
+        got = runs.reduce(vals, ufunc)
+        if ufunc is np.maximum:  # order-independent: the same to the bit
+            assert np.array_equal(got, ref)
+        else:  # non-negative terms in another order: a few ulps of the sum
+            np.testing.assert_allclose(got, ref, rtol=4 * rows.size * 2.3e-16, atol=0)
