@@ -10,7 +10,7 @@ frequency factor φ(ω)::
 
 with P_p a pattern of ±1 entries and s(ω) = max(1, f/f₁)^x the optional resistance law
 of a resistor. DC is therefore exact (inductors become zero-volt branches, capacitors
-vanish). Each element kind's stamp is one small function registered in ``_KINDS``; the
+vanish). Each element kind's stamp is one small function registered in ``KINDS``; the
 stamps are stored once as sparse ``(row, col, sign, param)`` entries and every solve
 path assembles its matrices from them.
 
