@@ -18,7 +18,9 @@ frequency, with what to change.
 from __future__ import annotations
 
 import re
+from collections import Counter
 from collections.abc import Iterable, Sequence
+from operator import itemgetter
 
 from .circuit import Circuit, closest_name
 from .errors import NetworkError
@@ -107,22 +109,28 @@ def dangling_nodes(
     by no control): ``part`` is the one element touching it, ``closest`` the most similar
     other node (names differing only in their digits, ``n1``/``n10``, do not count) or
     None. Such a part has an open end and carries no current."""
-    touches: dict[str, list[str]] = {}
-    for a, c, name, _role in _edges(circuit) if edges is None else edges:
-        touches.setdefault(a, []).append(name)
-        touches.setdefault(c, []).append(name)
-    for p in circuit.parts:
-        for n in (p.ctrl_from, p.ctrl_to):
-            if n is not None:
-                touches.setdefault(n, []).extend(("control", "control"))
+    edges = list(_edges(circuit)) if edges is None else edges
+    # terminals per node, counted in C (a node used as a control counts twice more)
+    touches = Counter(map(itemgetter(0), edges))
+    touches.update(map(itemgetter(1), edges))
+    controls = [n for p in circuit.parts for n in (p.ctrl_from, p.ctrl_to) if n is not None]
+    touches.update(controls + controls)
+    single = {n for n in circuit.nodes if touches[n] == 1}
+    if not single:
+        return []
+    part: dict[str, str] = {}  # the one element touching each of them
+    for a, c, name, _role in edges:
+        for n in (a, c):
+            if n in single:
+                part[n] = name
     everyone = [*circuit.nodes, circuit.ground]
     out: list[tuple[str, str, str | None]] = []
     for n in circuit.nodes:
-        if len(touches.get(n, ())) != 1:
+        if n not in single:
             continue
         bare = _DIGITS.sub("", name_key(n))
         others = [m for m in everyone if m != n and _DIGITS.sub("", name_key(m)) != bare]
-        out.append((n, touches[n][0], closest_name(n, others)))
+        out.append((n, part[n], closest_name(n, others)))
     return out
 
 
