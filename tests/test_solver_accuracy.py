@@ -325,3 +325,20 @@ def test_residual_check_follows_its_definition(case):
     # the same operations in the same order: equal but for the summation order of A·y
     np.testing.assert_allclose(chk.eta, eta, rtol=1e-12, atol=0)
     assert chk.singular.tolist() == near
+
+
+def test_equilibration_scales_stay_finite_at_the_ends_of_the_float_range():
+    # the scale of x is 2^-e for x = m·2^e, 0.5 <= m < 1 (the definition of frexp in
+    # the C standard, C99 7.12.6.4), held within 2^±511 so that a row scale times a
+    # column scale, multiplied by a zero or subnormal entry, never gives inf or NaN
+    from xlfuncs.solver import _pow2_inverse
+
+    x = np.array([0.0, 5e-324, 1e-310, 1e-200, 1e-154, 3e-9, 1.0, 0.75, 7e12, 1e154, 1e300])
+    r = _pow2_inverse(x)
+    assert np.isfinite(r).all() and (r <= 2.0**511).all() and (r >= 2.0**-511).all()
+    assert r[0] == 1.0  # an empty row or column keeps 1
+    inside = (x >= 2.0**-511) & (x < 2.0**511)
+    scaled = x[inside] * r[inside]
+    assert ((scaled >= 0.5) & (scaled < 1.0)).all()
+    assert np.array_equal(np.log2(r[inside]), np.round(np.log2(r[inside])))  # powers of 2
+    assert np.isfinite(r[:, None] * r[None, :] * 0.0).all()

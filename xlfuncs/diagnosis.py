@@ -109,7 +109,7 @@ def dangling_nodes(
     by no control): ``part`` is the one element touching it, ``closest`` the most similar
     other node (names differing only in their digits, ``n1``/``n10``, do not count) or
     None. Such a part has an open end and carries no current."""
-    edges = list(_edges(circuit)) if edges is None else edges
+    edges = list(_edges(circuit) if edges is None else edges)  # read twice below
     # terminals per node, counted in C (a node used as a control counts twice more)
     touches = Counter(map(itemgetter(0), edges))
     touches.update(map(itemgetter(1), edges))

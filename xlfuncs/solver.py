@@ -119,6 +119,7 @@ _SPARSE_PANEL, _SPARSE_RELAX = 4, 4
 # runs (rows or columns of A) up to this long are reduced entry index by entry index
 # (see _Segments); MNA rows and columns mostly hold 2-5 entries
 _SHORT_RUN = 8
+_SCALE_EXP = 511  # equilibration scales stay within 2^±511 (see _pow2_inverse)
 _SPARSE_MAX_DENSITY = 0.05  # a denser pattern stays on the dense path below _DENSE_MAX_N
 _DENSE_MAX_N = 1500  # never allocate dense n×n matrices above this (memory)
 
@@ -779,7 +780,8 @@ class System:
 
     def _equilibration(self, absv: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         """Row then column scaling by powers of two (exact) so that every row and column
-        of D_r·|A|·D_c has its largest entry in [0.5, 1); empty rows/columns keep 1.
+        of D_r·|A|·D_c has its largest entry in [0.5, 1) (within the limits of
+        _pow2_inverse); empty rows/columns keep 1.
         Returns (r, c, the factor r_i·c_j at each position (i, j))."""
         pat = self._pattern
         r = _pow2_inverse(self._row_reduce(absv, np.maximum))
@@ -1009,9 +1011,12 @@ def _one_blas_thread() -> Any:
 
 
 def _pow2_inverse(x: np.ndarray) -> np.ndarray:
-    """2^-e with x = m·2^e, 0.5 ≤ m < 1 (so x·result ∈ [0.5, 1)); 1 where x is 0."""
+    """2^-e with x = m·2^e, 0.5 ≤ m < 1 (so x·result ∈ [0.5, 1)); 1 where x is 0.
+    The exponent is held within ±511 (x beyond about 1e±154 is scaled only that far), so
+    that a product of a row and a column scale never overflows: 0 or a subnormal entry
+    times r_i·c_j stays finite."""
     _m, e = np.frexp(x)
-    return np.ldexp(1.0, -e)
+    return np.ldexp(1.0, -np.minimum(np.maximum(e, -_SCALE_EXP), _SCALE_EXP))
 
 
 def _dense_cost(n: int, m: int) -> float:
